@@ -1,0 +1,236 @@
+//! One drawing in, one outcome per profile out: the whole pipeline for a single file.
+
+use crate::geom::{chain, drop_crossing_loops, nest, BBox, Profile};
+use crate::import::{self, Drawing, ImportError, LengthUnit, ReadOptions};
+use crate::section::{section_props, SectionProps};
+
+/// Settings that shape how a drawing is read and measured.
+#[derive(Debug, Clone)]
+pub struct Settings {
+    pub read: ReadOptions,
+    /// Largest gap (mm) closed when chaining; `None` picks [`default_join_gap`].
+    pub join_gap: Option<f64>,
+    /// Measure all profiles of a file as one section.
+    pub merge: bool,
+    /// Unit of drawings that declare none.
+    pub assume_units: LengthUnit,
+}
+
+impl Default for Settings {
+    fn default() -> Self {
+        Settings {
+            read: ReadOptions::default(),
+            join_gap: None,
+            merge: false,
+            assume_units: LengthUnit::MM,
+        }
+    }
+}
+
+/// The result for one profile of a file (or for the file, when it yields no profile).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Outcome {
+    /// 1-based position in reading order; 0 for a row about the whole file.
+    pub profile: usize,
+    pub layer: String,
+    /// The drawing's unit as used, e.g. `mm`, or `mm (assumed)`.
+    pub drawing_units: String,
+    /// Properties in millimetres, or why there are none.
+    pub result: Result<SectionProps, String>,
+    /// Warnings and notes (for `ok` rows) — never the error itself.
+    pub message: String,
+}
+
+/// Default chaining gap: 1e-4 of the drawing's extent (its bounding-box diagonal), kept
+/// between 1e-6 mm and 0.05 mm, so that CAD rounding (micrometres) closes and real gaps
+/// (tenths of a millimetre and more) do not (common practice; see README).
+pub fn default_join_gap(extent_mm: f64) -> f64 {
+    (extent_mm * 1e-4).clamp(1e-6, 0.05)
+}
+
+/// Read and measure one DXF file held in memory.
+pub fn analyze_drawing(bytes: &[u8], settings: &Settings) -> Vec<Outcome> {
+    match import::dxf::read(bytes, &settings.read) {
+        Ok(d) => measure_drawing(d, settings),
+        Err(e) => file_row("", describe_import_error(&e)),
+    }
+}
+
+/// A row about the whole file.
+fn file_row(units: &str, msg: String) -> Vec<Outcome> {
+    vec![Outcome {
+        profile: 0,
+        layer: String::new(),
+        drawing_units: units.to_string(),
+        result: Err(msg),
+        message: String::new(),
+    }]
+}
+
+/// Measure a drawing already read (by any reader, or built by hand in tests).
+pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome> {
+    let (unit, units_label) = match drawing.units.declared {
+        Some(u) => (u, u.name.to_string()),
+        None => (
+            settings.assume_units,
+            format!("{} (assumed)", settings.assume_units.name),
+        ),
+    };
+    let mut notes: Vec<String> = Vec::new();
+    if drawing.units.declared.is_none() {
+        notes.push(format!(
+            "no drawing units declared{}: {} assumed",
+            match drawing.units.code {
+                Some(c) if c != 0 => format!(" ($INSUNITS {c} unknown)"),
+                _ => String::new(),
+            },
+            settings.assume_units.name
+        ));
+    }
+    notes.append(&mut drawing.notes);
+    if unit.mm != 1.0 {
+        for p in &mut drawing.pieces {
+            for s in &mut p.segments {
+                *s = s.scaled(unit.mm);
+            }
+        }
+    }
+    let skipped = summarize_skipped(&drawing.skipped);
+    if drawing.pieces.is_empty() {
+        let mut msg = "no outline found".to_string();
+        if !skipped.is_empty() {
+            msg.push_str(&format!("; skipped {skipped}"));
+        }
+        return file_row(&units_label, msg);
+    }
+    let extent = drawing
+        .pieces
+        .iter()
+        .flat_map(|p| p.segments.iter())
+        .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()))
+        .diagonal();
+    let join_gap = settings.join_gap.unwrap_or_else(|| default_join_gap(extent));
+    let chained = chain(&drawing.pieces, join_gap);
+    let mut problems = chained.problems;
+    let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
+    let profiles = nest(loops, &mut problems);
+
+    if !skipped.is_empty() {
+        notes.push(format!("skipped {skipped}"));
+    }
+    if chained.duplicates > 0 {
+        notes.push(format!("{} duplicate entities removed", chained.duplicates));
+    }
+    if chained.stray_chains > 0 {
+        notes.push(format!(
+            "{} open chains ignored (not near closing: centre or construction lines?)",
+            chained.stray_chains
+        ));
+    }
+    if chained.degenerate > 0 {
+        notes.push(format!("{} segments shorter than the gap {} mm dropped", chained.degenerate, join_gap));
+    }
+    let note = notes.join("; ");
+
+    // Profiles a problem overlaps are not measured: the problem may hide a loop of theirs
+    // (a tube whose outer circle is broken must not come out as its bore).
+    let mut used_problem = vec![false; problems.len()];
+    struct Item {
+        key: (f64, f64),
+        outcome: Outcome,
+    }
+    let mut items: Vec<Item> = Vec::new();
+    let blocked = |bbox: &BBox, used: &mut Vec<bool>| -> Vec<String> {
+        let mut msgs = Vec::new();
+        for (k, pr) in problems.iter().enumerate() {
+            if pr.bbox().overlaps(bbox, join_gap) {
+                used[k] = true;
+                msgs.push(pr.describe());
+            }
+        }
+        msgs
+    };
+    let make = |layer: &str, result: Result<SectionProps, String>| Outcome {
+        profile: 0,
+        layer: layer.to_string(),
+        drawing_units: units_label.clone(),
+        message: if result.is_ok() { note.clone() } else { String::new() },
+        result,
+    };
+    if settings.merge && !profiles.is_empty() {
+        let all: Vec<&Profile> = profiles.iter().collect();
+        let bbox = all.iter().fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
+        let msgs = blocked(&bbox, &mut used_problem);
+        let layers = joined_layers(&all);
+        let result = if msgs.is_empty() {
+            Ok(section_props(&all))
+        } else {
+            Err(format!("not measured: {}", msgs.join("; ")))
+        };
+        items.push(Item {
+            key: (bbox.min.x, bbox.min.y),
+            outcome: make(&layers, result),
+        });
+    } else {
+        for p in &profiles {
+            let bbox = p.bbox();
+            let msgs = blocked(&bbox, &mut used_problem);
+            let result = if msgs.is_empty() {
+                Ok(section_props(&[p]))
+            } else {
+                Err(format!("not measured: {}", msgs.join("; ")))
+            };
+            items.push(Item {
+                key: (bbox.min.x, bbox.min.y),
+                outcome: make(&p.outer.layer, result),
+            });
+        }
+    }
+    for (k, pr) in problems.iter().enumerate() {
+        if !used_problem[k] {
+            let bbox = pr.bbox();
+            items.push(Item {
+                key: (bbox.min.x, bbox.min.y),
+                outcome: make("", Err(pr.describe())),
+            });
+        }
+    }
+    if items.is_empty() {
+        let mut msg = "no closed outline found".to_string();
+        if !note.is_empty() {
+            msg.push_str(&format!("; {note}"));
+        }
+        return file_row(&units_label, msg);
+    }
+    // Reading order: left to right by the left edge of each box, then bottom to top.
+    items.sort_by(|a, b| a.key.0.total_cmp(&b.key.0).then(a.key.1.total_cmp(&b.key.1)));
+    items
+        .into_iter()
+        .enumerate()
+        .map(|(i, mut it)| {
+            it.outcome.profile = i + 1;
+            it.outcome
+        })
+        .collect()
+}
+
+fn joined_layers(profiles: &[&Profile]) -> String {
+    let mut layers: Vec<&str> = profiles.iter().map(|p| p.outer.layer.as_str()).collect();
+    layers.sort_unstable();
+    layers.dedup();
+    layers.join("+")
+}
+
+/// "TEXT 3, DIMENSION 2" from the reader's skip counts, most frequent first.
+fn summarize_skipped(skipped: &std::collections::BTreeMap<String, usize>) -> String {
+    let mut v: Vec<(&String, &usize)> = skipped.iter().collect();
+    v.sort_by(|a, b| b.1.cmp(a.1).then(a.0.cmp(b.0)));
+    v.iter()
+        .map(|(k, n)| format!("{n} {k}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+fn describe_import_error(e: &ImportError) -> String {
+    e.to_string()
+}

@@ -1,0 +1,98 @@
+//! Command-line flags (raw, validated by clap), and their help text.
+
+use std::path::PathBuf;
+
+use clap::{Parser, Subcommand, ValueEnum};
+
+const ABOUT: &str = "Cross-section properties of extruded profiles, read from the closed outlines of DXF drawings: one CSV row per profile.";
+
+const CONVENTIONS: &str = "\
+Conventions: coordinates are the drawing's own, y up. Second moments (ixx, iyy) are about axes
+through the centroid parallel to x and y; ixy is the product of area, the integral of x*y dA
+with x, y from the centroid. theta_deg is the angle from +x to the principal axis about which
+the second moment is i1 (the larger), counter-clockwise positive, in (-90, 90].
+
+Exit status: 0 every profile measured; 1 output written but some inputs or profiles failed
+(see rows with status=error); 2 usage or I/O error before any output.
+
+Safety: the results are geometric properties of the outline as drawn. They are not a strength
+check. Member design follows the applicable code and is signed off by a qualified engineer.";
+
+#[derive(Debug, Parser)]
+#[command(name = "sectio", version, about = ABOUT, after_help = CONVENTIONS)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Measure every closed profile in DXF files or folders (searched recursively) and write one CSV row per profile.
+    #[command(after_help = CONVENTIONS)]
+    Measure(MeasureArgs),
+}
+
+/// Output and assumed length units.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum UnitArg {
+    Mm,
+    Cm,
+    M,
+    In,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct MeasureArgs {
+    /// DXF files, or folders searched recursively for *.dxf (any case).
+    #[arg(required = true, value_name = "PATH")]
+    pub paths: Vec<PathBuf>,
+
+    /// Write the CSV to FILE (atomically: a temporary file renamed at the end) instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+
+    /// Length unit of the output columns; the header names carry it (area_mm2, ixx_in4, ...).
+    #[arg(long, value_enum, default_value = "mm")]
+    pub units: UnitArg,
+
+    /// Unit of drawings that declare none ($INSUNITS missing or 0). Unitless extrusion drawings are almost always millimetres.
+    #[arg(long, value_enum, default_value = "mm", value_name = "UNIT")]
+    pub assume_units: UnitArg,
+
+    /// Only read entities on layers matching GLOB (* and ?, case-insensitive); repeatable.
+    #[arg(long, value_name = "GLOB")]
+    pub layer: Vec<String>,
+
+    /// Skip entities on layers matching GLOB; repeatable.
+    #[arg(long, value_name = "GLOB")]
+    pub exclude_layer: Vec<String>,
+
+    /// Also read layers that are switched off or frozen (skipped by default).
+    #[arg(long)]
+    pub include_hidden_layers: bool,
+
+    /// Largest gap in millimetres closed when chaining loose entities into loops.
+    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm. Larger gaps are reported, never closed silently.
+    #[arg(long, value_name = "MM")]
+    pub gap: Option<f64>,
+
+    /// Measure all profiles of a file as one section (a built-up or multi-part section).
+    #[arg(long)]
+    pub merge: bool,
+
+    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1); steel is 7850.
+    #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
+    pub density: f64,
+
+    /// Number of files processed in parallel (default: one per core). The output is the same for any value.
+    #[arg(short = 'j', long, value_name = "N")]
+    pub jobs: Option<usize>,
+
+    /// Field delimiter (one character, e.g. ';' or 'tab'). Default ',' (';' with --decimal-comma).
+    #[arg(long, value_name = "CHAR")]
+    pub delimiter: Option<String>,
+
+    /// Write decimal commas (1234,5) for spreadsheets in locales that expect them.
+    #[arg(long)]
+    pub decimal_comma: bool,
+}

@@ -1,0 +1,112 @@
+//! The batch: find files, measure them in parallel, keep the rows in a stable order.
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::path::{Path, PathBuf};
+
+use anyhow::Context;
+use indicatif::{ProgressBar, ProgressStyle};
+use rayon::prelude::*;
+
+use crate::analyze::{analyze_drawing, Outcome, Settings};
+use crate::report::Row;
+
+/// Files named by `paths`: files as given, folders searched recursively for `*.dxf` (any
+/// case). Sorted by path and without repeats, so the output order never depends on the
+/// file system. A path that does not exist is kept, to become an error row.
+pub fn collect_files(paths: &[PathBuf]) -> anyhow::Result<Vec<PathBuf>> {
+    let mut files = Vec::new();
+    for p in paths {
+        if p.is_dir() {
+            walk(p, &mut files).with_context(|| format!("cannot read folder {}", p.display()))?;
+        } else {
+            files.push(p.clone());
+        }
+    }
+    files.sort();
+    files.dedup();
+    Ok(files)
+}
+
+fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> std::io::Result<()> {
+    for entry in std::fs::read_dir(dir)? {
+        let entry = entry?;
+        let path = entry.path();
+        let kind = entry.file_type()?;
+        if kind.is_dir() {
+            walk(&path, out)?;
+        } else if path
+            .extension()
+            .is_some_and(|e| e.eq_ignore_ascii_case("dxf"))
+        {
+            out.push(path);
+        }
+    }
+    Ok(())
+}
+
+/// Measure every file; rows come back ordered by file (as given), then profile.
+pub fn run_batch(files: &[PathBuf], settings: &Settings, jobs: Option<usize>) -> anyhow::Result<Vec<Row>> {
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(jobs.unwrap_or(0))
+        .build()
+        .context("cannot start worker threads")?;
+    let bar = ProgressBar::new(files.len() as u64);
+    bar.set_style(
+        ProgressStyle::with_template("{bar:40} {pos}/{len} files {elapsed_precise}")
+            .unwrap_or_else(|_| ProgressStyle::default_bar()),
+    );
+    // Panics inside one file become an error row; keep the default hook from printing them.
+    let previous_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(|_| {}));
+    let per_file: Vec<Vec<Row>> = pool.install(|| {
+        files
+            .par_iter()
+            .map(|path| {
+                let rows = measure_file(path, settings);
+                bar.inc(1);
+                rows
+            })
+            .collect()
+    });
+    std::panic::set_hook(previous_hook);
+    bar.finish_and_clear();
+    Ok(per_file.into_iter().flatten().collect())
+}
+
+/// All rows of one file; never panics.
+pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
+    let file = path.display().to_string();
+    let outcomes = match std::fs::read(path) {
+        Err(e) => vec![file_error(format!("cannot read file: {e}"))],
+        Ok(bytes) => match catch_unwind(AssertUnwindSafe(|| analyze_drawing(&bytes, settings))) {
+            Ok(o) => o,
+            Err(payload) => {
+                let what = payload
+                    .downcast_ref::<&str>()
+                    .map(|s| s.to_string())
+                    .or_else(|| payload.downcast_ref::<String>().cloned())
+                    .unwrap_or_else(|| "unknown panic".to_string());
+                vec![file_error(format!(
+                    "internal error ({what}); this is a bug in sectio: please report it with the drawing"
+                ))]
+            }
+        },
+    };
+    outcomes
+        .into_iter()
+        .map(|outcome| Row {
+            file: file.clone(),
+            outcome,
+        })
+        .collect()
+}
+
+fn file_error(msg: String) -> Outcome {
+    Outcome {
+        profile: 0,
+        layer: String::new(),
+        drawing_units: String::new(),
+        result: Err(msg),
+        message: String::new(),
+    }
+}

@@ -1,0 +1,20 @@
+//! Plane geometry: exact segments, area integrals, chaining loops and nesting them.
+//!
+//! Sign conventions, stated once for the whole crate:
+//! - y points up;
+//! - outer loops run counter-clockwise and have positive area, holes run clockwise;
+//! - arcs sweep counter-clockwise for positive `sweep`;
+//! - `sxy` (and the product of area `ixy` built from it) is ∬ x·y dA.
+//!
+//! This module does no I/O.
+
+pub mod chain;
+pub mod moments;
+pub mod nest;
+pub mod predicates;
+pub mod segment;
+
+pub use chain::{chain, Chained, Loop, LoopProblem};
+pub use moments::Moments;
+pub use nest::{drop_crossing_loops, nest, Profile};
+pub use segment::{Arc, BBox, Point, Segment};

@@ -1,0 +1,285 @@
+//! Checking loops for crossings and nesting them into profiles.
+//!
+//! A loop's depth is the number of loops around it: even depth is material, odd depth a hole.
+//! A profile is a loop of even depth with the holes directly inside it; an island inside a
+//! hole is a profile of its own.
+//!
+//! Both steps avoid all-pairs work: crossings are found by a sweep over segment boxes sorted
+//! by x, and containment is tested only against loops whose box holds the candidate's box,
+//! found through a uniform grid.
+
+use std::collections::HashMap;
+
+use super::chain::{Loop, LoopProblem};
+use super::moments::signed_area;
+use super::predicates::{intersections, winding_number};
+use super::segment::{BBox, Point};
+
+/// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Profile {
+    pub outer: Loop,
+    pub holes: Vec<Loop>,
+}
+
+impl Profile {
+    pub fn bbox(&self) -> BBox {
+        self.outer.bbox()
+    }
+    pub fn loops(&self) -> impl Iterator<Item = &Loop> {
+        std::iter::once(&self.outer).chain(self.holes.iter())
+    }
+}
+
+/// Remove loops that cross themselves or each other, reporting each as a problem.
+///
+/// Ends shared by neighbouring segments of one loop are not crossings; two different loops
+/// that only touch (at a segment end of either) are allowed, since the regions they bound
+/// still do not overlap.
+pub fn drop_crossing_loops(loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> Vec<Loop> {
+    struct Item {
+        lp: u32,
+        sg: u32,
+        bbox: BBox,
+    }
+    let mut items: Vec<Item> = Vec::new();
+    for (li, l) in loops.iter().enumerate() {
+        for (si, s) in l.segments.iter().enumerate() {
+            items.push(Item {
+                lp: li as u32,
+                sg: si as u32,
+                bbox: s.bbox(),
+            });
+        }
+    }
+    items.sort_by(|a, b| a.bbox.min.x.total_cmp(&b.bbox.min.x));
+    let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()]; // (where, self?)
+    let mut active: Vec<usize> = Vec::new();
+    for i in 0..items.len() {
+        let it = &items[i];
+        active.retain(|&j| items[j].bbox.max.x >= it.bbox.min.x - tol);
+        for &j in &active {
+            let jt = &items[j];
+            if !it.bbox.overlaps(&jt.bbox, tol) {
+                continue;
+            }
+            let (l1, l2) = (&loops[it.lp as usize], &loops[jt.lp as usize]);
+            let (s1, s2) = (&l1.segments[it.sg as usize], &l2.segments[jt.sg as usize]);
+            if it.lp == jt.lp {
+                if it.sg == jt.sg {
+                    continue;
+                }
+                let n = l1.segments.len() as u32;
+                let (a, b) = (it.sg.min(jt.sg), it.sg.max(jt.sg));
+                let next = b == a + 1; // b starts where a ends
+                let wrap = a == 0 && b == n - 1; // a starts where b ends
+                for h in intersections(s1, s2, tol) {
+                    // t values are along s1 (item i) and s2 (item j).
+                    let (ta, tb) = if it.sg == a { (h.t1, h.t2) } else { (h.t2, h.t1) };
+                    let shared = (next && ta >= 1.0 - 1e-9 && tb <= 1e-9)
+                        || (wrap && ta <= 1e-9 && tb >= 1.0 - 1e-9)
+                        || (next && wrap && ((ta <= 1e-9 && tb >= 1.0 - 1e-9) || (ta >= 1.0 - 1e-9 && tb <= 1e-9)));
+                    let near_shared = (next && h.at.dist(s_end(l1, a)) <= tol)
+                        || (wrap && h.at.dist(s_end(l1, b)) <= tol);
+                    if !(shared || near_shared) {
+                        bad[it.lp as usize].get_or_insert((h.at, true));
+                    }
+                }
+            } else {
+                for h in intersections(s1, s2, tol) {
+                    let at_end1 = h.at.dist(s1.start()) <= tol || h.at.dist(s1.end()) <= tol;
+                    let at_end2 = h.at.dist(s2.start()) <= tol || h.at.dist(s2.end()) <= tol;
+                    let touch = at_end1 || at_end2 || is_tangent(s1, s2, h.at, tol);
+                    if !touch {
+                        bad[it.lp as usize].get_or_insert((h.at, false));
+                        bad[jt.lp as usize].get_or_insert((h.at, false));
+                    }
+                }
+            }
+        }
+        active.push(i);
+    }
+    let mut kept = Vec::with_capacity(loops.len());
+    for (l, b) in loops.into_iter().zip(bad) {
+        match b {
+            None => kept.push(l),
+            Some((at, true)) => problems.push(LoopProblem::SelfIntersection {
+                at,
+                bbox: l.bbox(),
+                origin: l.origin.clone(),
+            }),
+            Some((at, false)) => problems.push(LoopProblem::LoopsCross {
+                at,
+                bbox: l.bbox(),
+                origin: l.origin.clone(),
+            }),
+        }
+    }
+    kept
+}
+
+fn s_end(l: &Loop, i: u32) -> Point {
+    l.segments[i as usize].end()
+}
+
+/// Whether two segments only touch at `at` (tangent curves) rather than cross: the points a
+/// little before and after `at` along the first segment lie on the same side of the second.
+fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> bool {
+    use super::Segment;
+    match (s1, s2) {
+        (Segment::Line { .. }, Segment::Line { .. }) => false,
+        _ => {
+            // Distance from `at` to the second curve's circle or line, probed on either side
+            // along the first segment: a crossing changes the side.
+            let side = |p: Point| -> f64 {
+                match s2 {
+                    Segment::Line { a, b } => (*b - *a).cross(p - *a),
+                    Segment::Arc(arc) => p.dist(arc.center) - arc.radius,
+                }
+            };
+            let step = (10.0 * tol).max(1e-9);
+            let dir = match s1 {
+                Segment::Line { a, b } => {
+                    let d = *b - *a;
+                    d * (1.0 / d.norm())
+                }
+                Segment::Arc(arc) => {
+                    let v = at - arc.center;
+                    Point::new(-v.y, v.x) * (1.0 / v.norm())
+                }
+            };
+            let (before, after) = (side(at - dir * step), side(at + dir * step));
+            before * after > 0.0
+        }
+    }
+}
+
+/// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]).
+/// Loops with no area become problems.
+pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profile> {
+    // Signed areas about each loop's own box centre, for precision far from the origin.
+    let mut info: Vec<(f64, BBox)> = Vec::with_capacity(loops.len());
+    let mut keep = Vec::with_capacity(loops.len());
+    for l in loops.drain(..) {
+        let bb = l.bbox();
+        let area = signed_area(&l.segments, bb.center());
+        // A loop with no area: below rounding noise for its size (common practice).
+        if !(area.abs() > 1e-12 * bb.width() * bb.height()) || area.abs() == 0.0 {
+            problems.push(LoopProblem::ZeroArea {
+                bbox: bb,
+                origin: l.origin.clone(),
+            });
+            continue;
+        }
+        info.push((area, bb));
+        keep.push(l);
+    }
+    let mut loops = keep;
+    // Make every loop counter-clockwise for now; holes are turned round below.
+    for (l, (area, _)) in loops.iter_mut().zip(info.iter_mut()) {
+        if *area < 0.0 {
+            l.reverse();
+            *area = -*area;
+        }
+    }
+    // Largest first: a container is always larger than what it holds.
+    let mut order: Vec<usize> = (0..loops.len()).collect();
+    order.sort_by(|&a, &b| info[b].0.total_cmp(&info[a].0));
+    let grid = BoxGrid::new(&info.iter().map(|(_, b)| *b).collect::<Vec<_>>());
+    let rank: Vec<usize> = {
+        let mut r = vec![0; loops.len()];
+        for (k, &i) in order.iter().enumerate() {
+            r[i] = k;
+        }
+        r
+    };
+    let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
+    let mut depth: Vec<usize> = vec![0; loops.len()];
+    for &i in &order {
+        let probe = loops[i].segments[0].midpoint();
+        let bb = info[i].1;
+        let mut best: Option<usize> = None;
+        for &j in grid.candidates(probe) {
+            let j = j as usize;
+            if j == i || rank[j] > rank[i] || !info[j].1.contains_box(&bb, 0.0) {
+                continue;
+            }
+            if best.is_some_and(|b| rank[b] > rank[j]) {
+                continue; // already found a smaller container
+            }
+            if winding_number(&loops[j].segments, probe) != 0 {
+                best = Some(j);
+            }
+        }
+        if let Some(p) = best {
+            parent[i] = Some(p);
+            depth[i] = depth[p] + 1;
+        }
+    }
+    // Assemble profiles in the order loops were given (the caller sorts rows).
+    let mut profile_of: HashMap<usize, usize> = HashMap::new();
+    let mut slots: Vec<Option<Loop>> = loops.into_iter().map(Some).collect();
+    let mut profiles: Vec<Profile> = Vec::new();
+    for &i in &order {
+        if depth[i] % 2 == 0 {
+            // `slots[i]` is taken exactly once, here or as a hole below.
+            if let Some(outer) = slots[i].take() {
+                profile_of.insert(i, profiles.len());
+                profiles.push(Profile {
+                    outer,
+                    holes: Vec::new(),
+                });
+            }
+        }
+    }
+    for &i in &order {
+        if depth[i] % 2 == 1 {
+            if let (Some(p), Some(mut hole)) = (parent[i], slots[i].take()) {
+                hole.reverse();
+                if let Some(&k) = profile_of.get(&p) {
+                    profiles[k].holes.push(hole);
+                }
+            }
+        }
+    }
+    profiles
+}
+
+/// A uniform grid over boxes: each cell lists the boxes that cover it.
+struct BoxGrid {
+    origin: Point,
+    cell: f64,
+    n: i64,
+    cells: HashMap<(i64, i64), Vec<u32>>,
+}
+
+impl BoxGrid {
+    fn new(boxes: &[BBox]) -> BoxGrid {
+        let all = boxes.iter().fold(BBox::EMPTY, |a, b| a.union(b));
+        let n = ((boxes.len() as f64).sqrt().ceil() as i64).clamp(1, 256);
+        let size = all.width().max(all.height()).max(f64::MIN_POSITIVE);
+        let mut g = BoxGrid {
+            origin: all.min,
+            cell: size / n as f64,
+            n,
+            cells: HashMap::new(),
+        };
+        for (i, b) in boxes.iter().enumerate() {
+            let (x0, y0) = g.index(b.min);
+            let (x1, y1) = g.index(b.max);
+            for x in x0..=x1 {
+                for y in y0..=y1 {
+                    g.cells.entry((x, y)).or_default().push(i as u32);
+                }
+            }
+        }
+        g
+    }
+    fn index(&self, p: Point) -> (i64, i64) {
+        let f = |v: f64, o: f64| (((v - o) / self.cell).floor() as i64).clamp(0, self.n - 1);
+        (f(p.x, self.origin.x), f(p.y, self.origin.y))
+    }
+    fn candidates(&self, p: Point) -> &[u32] {
+        self.cells.get(&self.index(p)).map_or(&[], |v| v.as_slice())
+    }
+}

@@ -1,0 +1,232 @@
+//! Intersections between segments and point-in-loop tests, on exact lines and arcs.
+
+use std::f64::consts::{PI, TAU};
+
+use super::segment::{Arc, Point, Segment};
+
+/// A point where two segments meet, with the fraction along each (0 at start, 1 at end).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Hit {
+    pub at: Point,
+    pub t1: f64,
+    pub t2: f64,
+}
+
+/// Fraction along an arc of the direction `angle`, or `None` when outside the sweep by more
+/// than `ang_tol` radians.
+fn arc_fraction(arc: &Arc, angle: f64, ang_tol: f64) -> Option<f64> {
+    let sweep = arc.sweep.abs();
+    let rel = ((angle - arc.start_angle) * arc.sweep.signum()).rem_euclid(TAU);
+    if rel <= sweep + ang_tol {
+        Some((rel / sweep).min(1.0))
+    } else if rel >= TAU - ang_tol {
+        Some(0.0)
+    } else {
+        None
+    }
+}
+
+/// All points where two segments meet, within `tol` (a length). Collinear or concentric
+/// overlaps are reported by the ends of the shared stretch.
+pub fn intersections(s1: &Segment, s2: &Segment, tol: f64) -> Vec<Hit> {
+    match (s1, s2) {
+        (Segment::Line { a, b }, Segment::Line { a: c, b: d }) => line_line(*a, *b, *c, *d, tol),
+        (Segment::Line { a, b }, Segment::Arc(arc)) => line_arc(*a, *b, arc, tol),
+        (Segment::Arc(arc), Segment::Line { a, b }) => line_arc(*a, *b, arc, tol)
+            .into_iter()
+            .map(|h| Hit { at: h.at, t1: h.t2, t2: h.t1 })
+            .collect(),
+        (Segment::Arc(x), Segment::Arc(y)) => arc_arc(x, y, tol),
+    }
+}
+
+fn line_line(p: Point, p2: Point, q: Point, q2: Point, tol: f64) -> Vec<Hit> {
+    let r = p2 - p;
+    let s = q2 - q;
+    let (lr, ls) = (r.norm(), s.norm());
+    if lr == 0.0 || ls == 0.0 {
+        return Vec::new();
+    }
+    let denom = r.cross(s);
+    let qp = q - p;
+    // Parallel when the sine of the angle between them is below tol / length.
+    if denom.abs() <= tol / lr.max(ls) * lr * ls {
+        // Collinear if q lies on the line through p.
+        if (qp.cross(r) / lr).abs() > tol {
+            return Vec::new();
+        }
+        let t0 = qp.dot(r) / (lr * lr);
+        let t1 = (q2 - p).dot(r) / (lr * lr);
+        let (lo, hi) = (t0.min(t1).max(0.0), t0.max(t1).min(1.0));
+        if hi < lo - tol / lr {
+            return Vec::new();
+        }
+        let mut hits = Vec::new();
+        for t in [lo, hi] {
+            let at = p + r * t;
+            let u = (at - q).dot(s) / (ls * ls);
+            hits.push(Hit { at, t1: t, t2: u.clamp(0.0, 1.0) });
+        }
+        if (hi - lo) * lr <= tol {
+            hits.truncate(1);
+        }
+        return hits;
+    }
+    let t = qp.cross(s) / denom;
+    let u = qp.cross(r) / denom;
+    let (et, eu) = (tol / lr, tol / ls);
+    if t < -et || t > 1.0 + et || u < -eu || u > 1.0 + eu {
+        return Vec::new();
+    }
+    vec![Hit {
+        at: p + r * t,
+        t1: t.clamp(0.0, 1.0),
+        t2: u.clamp(0.0, 1.0),
+    }]
+}
+
+fn line_arc(p: Point, p2: Point, arc: &Arc, tol: f64) -> Vec<Hit> {
+    let d = p2 - p;
+    let len = d.norm();
+    if len == 0.0 {
+        return Vec::new();
+    }
+    let u = d * (1.0 / len);
+    let f = p - arc.center;
+    // Foot of the perpendicular from the centre, then ± along the line.
+    let foot = -f.dot(u);
+    let dist = f.cross(u).abs();
+    let r = arc.radius;
+    if dist > r + tol {
+        return Vec::new();
+    }
+    let h = (r * r - dist * dist).max(0.0).sqrt();
+    let roots: &[f64] = if h <= tol { &[0.0] } else { &[-1.0, 1.0] };
+    let ang_tol = tol / r;
+    let mut hits = Vec::new();
+    for &sgn in roots {
+        let along = foot + sgn * h;
+        if along < -tol || along > len + tol {
+            continue;
+        }
+        let at = p + u * along;
+        let v = at - arc.center;
+        if let Some(ta) = arc_fraction(arc, v.y.atan2(v.x), ang_tol) {
+            hits.push(Hit {
+                at,
+                t1: (along / len).clamp(0.0, 1.0),
+                t2: ta,
+            });
+        }
+    }
+    hits
+}
+
+fn arc_arc(x: &Arc, y: &Arc, tol: f64) -> Vec<Hit> {
+    let dc = y.center - x.center;
+    let d = dc.norm();
+    let (r1, r2) = (x.radius, y.radius);
+    let (t1, t2) = (tol / r1, tol / r2);
+    if d <= tol {
+        // Concentric: they meet only if they are the same circle and their sweeps overlap.
+        if (r1 - r2).abs() > tol {
+            return Vec::new();
+        }
+        let mut hits = Vec::new();
+        for (p, on_x) in [(y.start, false), (y.end, false), (x.start, true), (x.end, true)] {
+            let v = p - x.center;
+            let ang = v.y.atan2(v.x);
+            let (fx, fy) = (arc_fraction(x, ang, t1), arc_fraction(y, ang, t2));
+            if let (Some(fx), Some(fy)) = (fx, fy) {
+                let _ = on_x;
+                hits.push(Hit { at: p, t1: fx, t2: fy });
+            }
+        }
+        return hits;
+    }
+    if d > r1 + r2 + tol || d < (r1 - r2).abs() - tol {
+        return Vec::new();
+    }
+    let a = (d * d + r1 * r1 - r2 * r2) / (2.0 * d);
+    let h = (r1 * r1 - a * a).max(0.0).sqrt();
+    let e = dc * (1.0 / d);
+    let perp = Point::new(-e.y, e.x);
+    let base = x.center + e * a;
+    let pts: Vec<Point> = if h <= tol {
+        vec![base]
+    } else {
+        vec![base + perp * h, base - perp * h]
+    };
+    let mut hits = Vec::new();
+    for at in pts {
+        let v1 = at - x.center;
+        let v2 = at - y.center;
+        if let (Some(f1), Some(f2)) = (
+            arc_fraction(x, v1.y.atan2(v1.x), t1),
+            arc_fraction(y, v2.y.atan2(v2.x), t2),
+        ) {
+            hits.push(Hit { at, t1: f1, t2: f2 });
+        }
+    }
+    hits
+}
+
+/// Winding number of a closed run of segments around `p` (counter-clockwise positive).
+///
+/// Counts signed crossings of the ray from `p` towards +x, with the half-open rule on
+/// y-monotone pieces (arcs are split at their top and bottom points), so that a vertex on the
+/// ray is counted once (common practice for crossing-number tests).
+pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
+    let mut w = 0;
+    let cross_line = |a: Point, b: Point| -> i32 {
+        if (a.y <= p.y) != (b.y <= p.y) {
+            let t = (p.y - a.y) / (b.y - a.y);
+            let x = a.x + t * (b.x - a.x);
+            if x > p.x {
+                return if b.y > a.y { 1 } else { -1 };
+            }
+        }
+        0
+    };
+    for s in segments {
+        match s {
+            Segment::Line { a, b } => w += cross_line(*a, *b),
+            Segment::Arc(arc) => {
+                // Split at the angles π/2 and 3π/2 inside the sweep; each piece is y-monotone.
+                let mut cuts = vec![0.0];
+                let sweep = arc.sweep;
+                for k in [PI / 2.0, 3.0 * PI / 2.0] {
+                    let mut rel = ((k - arc.start_angle) * sweep.signum()).rem_euclid(TAU);
+                    while rel < sweep.abs() {
+                        if rel > 0.0 {
+                            cuts.push(rel / sweep.abs());
+                        }
+                        rel += TAU;
+                    }
+                }
+                cuts.push(1.0);
+                cuts.sort_by(f64::total_cmp);
+                for win in cuts.windows(2) {
+                    let (ta, tb) = (win[0], win[1]);
+                    let a = if ta == 0.0 { arc.start } else { arc.point_at(ta) };
+                    let b = if tb == 1.0 { arc.end } else { arc.point_at(tb) };
+                    if (a.y <= p.y) != (b.y <= p.y) {
+                        // The crossing point on the circle, on this monotone piece.
+                        let dy = p.y - arc.center.y;
+                        let dx = (arc.radius * arc.radius - dy * dy).max(0.0).sqrt();
+                        let mid = arc.point_at((ta + tb) / 2.0);
+                        let x = if mid.x >= arc.center.x {
+                            arc.center.x + dx
+                        } else {
+                            arc.center.x - dx
+                        };
+                        if x > p.x {
+                            w += if b.y > a.y { 1 } else { -1 };
+                        }
+                    }
+                }
+            }
+        }
+    }
+    w
+}

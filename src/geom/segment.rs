@@ -1,0 +1,324 @@
+//! Exact boundary pieces: straight lines and circular arcs.
+
+use std::f64::consts::{PI, TAU};
+use std::ops::{Add, Mul, Neg, Sub};
+
+/// A point or vector in the drawing plane (y up).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Point {
+    pub x: f64,
+    pub y: f64,
+}
+
+impl Point {
+    pub const fn new(x: f64, y: f64) -> Self {
+        Point { x, y }
+    }
+    pub fn dot(self, o: Point) -> f64 {
+        self.x * o.x + self.y * o.y
+    }
+    /// z component of the cross product `self × o`.
+    pub fn cross(self, o: Point) -> f64 {
+        self.x * o.y - self.y * o.x
+    }
+    pub fn norm(self) -> f64 {
+        self.x.hypot(self.y)
+    }
+    pub fn dist(self, o: Point) -> f64 {
+        (self - o).norm()
+    }
+    pub fn is_finite(self) -> bool {
+        self.x.is_finite() && self.y.is_finite()
+    }
+    /// The point on the unit circle at `angle` radians.
+    pub fn polar(angle: f64) -> Point {
+        let (s, c) = angle.sin_cos();
+        Point::new(c, s)
+    }
+}
+
+impl Add for Point {
+    type Output = Point;
+    fn add(self, o: Point) -> Point {
+        Point::new(self.x + o.x, self.y + o.y)
+    }
+}
+impl Sub for Point {
+    type Output = Point;
+    fn sub(self, o: Point) -> Point {
+        Point::new(self.x - o.x, self.y - o.y)
+    }
+}
+impl Mul<f64> for Point {
+    type Output = Point;
+    fn mul(self, s: f64) -> Point {
+        Point::new(self.x * s, self.y * s)
+    }
+}
+impl Neg for Point {
+    type Output = Point;
+    fn neg(self) -> Point {
+        Point::new(-self.x, -self.y)
+    }
+}
+
+/// Axis-aligned bounding box.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BBox {
+    pub min: Point,
+    pub max: Point,
+}
+
+impl BBox {
+    /// The empty box: adding any point makes it that point.
+    pub const EMPTY: BBox = BBox {
+        min: Point::new(f64::INFINITY, f64::INFINITY),
+        max: Point::new(f64::NEG_INFINITY, f64::NEG_INFINITY),
+    };
+    pub fn add_point(&mut self, p: Point) {
+        self.min.x = self.min.x.min(p.x);
+        self.min.y = self.min.y.min(p.y);
+        self.max.x = self.max.x.max(p.x);
+        self.max.y = self.max.y.max(p.y);
+    }
+    pub fn union(mut self, o: &BBox) -> BBox {
+        self.add_point(o.min);
+        self.add_point(o.max);
+        self
+    }
+    pub fn is_empty(&self) -> bool {
+        !(self.min.x <= self.max.x && self.min.y <= self.max.y)
+    }
+    pub fn width(&self) -> f64 {
+        self.max.x - self.min.x
+    }
+    pub fn height(&self) -> f64 {
+        self.max.y - self.min.y
+    }
+    pub fn diagonal(&self) -> f64 {
+        if self.is_empty() {
+            0.0
+        } else {
+            self.width().hypot(self.height())
+        }
+    }
+    pub fn center(&self) -> Point {
+        (self.min + self.max) * 0.5
+    }
+    /// Whether the two boxes overlap, each grown by `margin`.
+    pub fn overlaps(&self, o: &BBox, margin: f64) -> bool {
+        self.min.x <= o.max.x + margin
+            && o.min.x <= self.max.x + margin
+            && self.min.y <= o.max.y + margin
+            && o.min.y <= self.max.y + margin
+    }
+    /// Whether `o` lies inside `self` grown by `margin`.
+    pub fn contains_box(&self, o: &BBox, margin: f64) -> bool {
+        self.min.x - margin <= o.min.x
+            && self.min.y - margin <= o.min.y
+            && o.max.x <= self.max.x + margin
+            && o.max.y <= self.max.y + margin
+    }
+}
+
+/// A circular arc, kept exactly.
+///
+/// `start` and `end` are stored explicitly (for polyline bulges they are the drawing's own
+/// vertices, so chaining compares exact file values); `center`, `radius` and the signed
+/// `sweep` (radians, counter-clockwise positive, `0 < |sweep| <= 2π`) describe the curve.
+/// A full circle has `start == end` and `|sweep| == 2π`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Arc {
+    pub center: Point,
+    pub radius: f64,
+    pub start: Point,
+    pub end: Point,
+    /// Angle of `start` seen from `center`, radians.
+    pub start_angle: f64,
+    pub sweep: f64,
+}
+
+impl Arc {
+    /// Arc from centre, radius, start angle and signed sweep (radians).
+    pub fn from_center(center: Point, radius: f64, start_angle: f64, sweep: f64) -> Arc {
+        let start = center + Point::polar(start_angle) * radius;
+        let end = if sweep.abs() >= TAU {
+            start
+        } else {
+            center + Point::polar(start_angle + sweep) * radius
+        };
+        Arc {
+            center,
+            radius,
+            start,
+            end,
+            start_angle,
+            sweep: sweep.clamp(-TAU, TAU),
+        }
+    }
+
+    /// A full circle, counter-clockwise, starting at angle 0.
+    pub fn circle(center: Point, radius: f64) -> Arc {
+        Arc::from_center(center, radius, 0.0, TAU)
+    }
+
+    /// Arc between two points given a polyline bulge (tan of a quarter of the included angle,
+    /// positive counter-clockwise; DXF reference, LWPOLYLINE group 42). `None` for a zero bulge
+    /// or coincident points, which are straight (or empty) edges.
+    pub fn from_bulge(start: Point, end: Point, bulge: f64) -> Option<Arc> {
+        let chord = end - start;
+        let c = chord.norm();
+        if bulge == 0.0 || !bulge.is_finite() || c == 0.0 {
+            return None;
+        }
+        // Included angle θ = 4·atan(b); radius r = c / (2·sin(θ/2)); the centre lies on the
+        // chord's perpendicular bisector at distance r·cos(θ/2) (common practice).
+        let sweep = 4.0 * bulge.atan();
+        let half = sweep / 2.0;
+        let radius = c / (2.0 * half.sin().abs());
+        // Offset from chord midpoint to centre, to the left of the chord for a positive bulge.
+        let left = Point::new(-chord.y, chord.x) * (1.0 / c);
+        let offset = radius * half.cos() * sweep.signum();
+        let center = (start + end) * 0.5 + left * offset;
+        let start_angle = (start - center).y.atan2((start - center).x);
+        Some(Arc {
+            center,
+            radius,
+            start,
+            end,
+            start_angle,
+            sweep,
+        })
+    }
+
+    pub fn is_full_circle(&self) -> bool {
+        self.sweep.abs() >= TAU
+    }
+
+    pub fn length(&self) -> f64 {
+        self.radius * self.sweep.abs()
+    }
+
+    /// Point at fraction `t` in [0, 1] of the sweep.
+    pub fn point_at(&self, t: f64) -> Point {
+        self.center + Point::polar(self.start_angle + self.sweep * t) * self.radius
+    }
+
+    /// Whether the direction `angle` (radians) lies within the sweep.
+    pub fn contains_angle(&self, angle: f64) -> bool {
+        if self.is_full_circle() {
+            return true;
+        }
+        let rel = (angle - self.start_angle) * self.sweep.signum();
+        rel.rem_euclid(TAU) <= self.sweep.abs()
+    }
+
+    pub fn reversed(&self) -> Arc {
+        Arc {
+            center: self.center,
+            radius: self.radius,
+            start: self.end,
+            end: self.start,
+            start_angle: self.start_angle + self.sweep,
+            sweep: -self.sweep,
+        }
+    }
+
+    pub fn bbox(&self) -> BBox {
+        let mut b = BBox::EMPTY;
+        b.add_point(self.start);
+        b.add_point(self.end);
+        for k in 0..4 {
+            let a = k as f64 * PI / 2.0;
+            if self.contains_angle(a) {
+                b.add_point(self.center + Point::polar(a) * self.radius);
+            }
+        }
+        b
+    }
+}
+
+/// One exact piece of boundary.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Segment {
+    Line { a: Point, b: Point },
+    Arc(Arc),
+}
+
+impl Segment {
+    pub fn line(a: Point, b: Point) -> Segment {
+        Segment::Line { a, b }
+    }
+    pub fn start(&self) -> Point {
+        match self {
+            Segment::Line { a, .. } => *a,
+            Segment::Arc(arc) => arc.start,
+        }
+    }
+    pub fn end(&self) -> Point {
+        match self {
+            Segment::Line { b, .. } => *b,
+            Segment::Arc(arc) => arc.end,
+        }
+    }
+    pub fn length(&self) -> f64 {
+        match self {
+            Segment::Line { a, b } => a.dist(*b),
+            Segment::Arc(arc) => arc.length(),
+        }
+    }
+    pub fn reversed(&self) -> Segment {
+        match self {
+            Segment::Line { a, b } => Segment::Line { a: *b, b: *a },
+            Segment::Arc(arc) => Segment::Arc(arc.reversed()),
+        }
+    }
+    pub fn bbox(&self) -> BBox {
+        match self {
+            Segment::Line { a, b } => {
+                let mut bb = BBox::EMPTY;
+                bb.add_point(*a);
+                bb.add_point(*b);
+                bb
+            }
+            Segment::Arc(arc) => arc.bbox(),
+        }
+    }
+    /// The point halfway along the segment.
+    pub fn midpoint(&self) -> Point {
+        match self {
+            Segment::Line { a, b } => (*a + *b) * 0.5,
+            Segment::Arc(arc) => arc.point_at(0.5),
+        }
+    }
+    /// Whether every number in the segment is finite and an arc has a positive radius.
+    pub fn is_finite(&self) -> bool {
+        match self {
+            Segment::Line { a, b } => a.is_finite() && b.is_finite(),
+            Segment::Arc(arc) => {
+                arc.center.is_finite()
+                    && arc.start.is_finite()
+                    && arc.end.is_finite()
+                    && arc.radius.is_finite()
+                    && arc.radius > 0.0
+                    && arc.sweep.is_finite()
+                    && arc.sweep != 0.0
+            }
+        }
+    }
+    /// The same segment with every coordinate mapped by `f` (a similarity: translation,
+    /// uniform scale; mirroring flips arcs).
+    pub fn scaled(&self, s: f64) -> Segment {
+        match self {
+            Segment::Line { a, b } => Segment::Line { a: *a * s, b: *b * s },
+            Segment::Arc(arc) => Segment::Arc(Arc {
+                center: arc.center * s,
+                radius: arc.radius * s.abs(),
+                start: arc.start * s,
+                end: arc.end * s,
+                start_angle: if s < 0.0 { arc.start_angle + PI } else { arc.start_angle },
+                sweep: arc.sweep,
+            }),
+        }
+    }
+}

@@ -1,0 +1,18 @@
+//! sectio: cross-section properties of extruded profiles from DXF drawings.
+//!
+//! The pipeline, one file at a time:
+//! 1. [`import`] reads a drawing into exact segments (lines and circular arcs) with layers and units;
+//! 2. [`geom`] chains loose segments into closed loops and nests them into profiles (outer loop plus holes);
+//! 3. [`section`] integrates each profile exactly with Green's theorem into [`section::SectionProps`];
+//! 4. [`report`] turns results into CSV rows;
+//! 5. [`cli`] walks folders, runs files in parallel and writes the output atomically.
+//!
+//! The results are geometric properties of the outline as drawn, not a strength check.
+
+pub mod analyze;
+pub mod cli;
+pub mod geom;
+pub mod import;
+pub mod report;
+pub mod section;
+pub use analyze::{analyze_drawing, measure_drawing, Outcome, Settings};

@@ -1,0 +1,117 @@
+//! Output rows: the only place that knows column names, their units and number formats.
+//!
+//! Renaming a column is a format change: record it in CHANGELOG.md.
+
+pub mod csv_out;
+
+pub use csv_out::{write_csv, CsvFormat};
+
+use crate::analyze::Outcome;
+use crate::import::LengthUnit;
+
+/// One output row: a profile's outcome with the file it came from.
+#[derive(Debug, Clone)]
+pub struct Row {
+    pub file: String,
+    pub outcome: Outcome,
+}
+
+/// How a column's value scales with the output length unit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Dim {
+    /// Not a length (counts, angles, mass).
+    None,
+    /// Length to this power.
+    L(i32),
+}
+
+/// Column definitions: (name stem, dimension). The header is `stem_<unit><power>`, e.g.
+/// `area_mm2`; dimensionless columns keep their stem.
+const NUMERIC: &[(&str, Dim)] = &[
+    ("area", Dim::L(2)),
+    ("perimeter", Dim::L(1)),
+    ("perimeter_outer", Dim::L(1)),
+    ("holes", Dim::None),
+    ("cx", Dim::L(1)),
+    ("cy", Dim::L(1)),
+    ("xmin", Dim::L(1)),
+    ("ymin", Dim::L(1)),
+    ("xmax", Dim::L(1)),
+    ("ymax", Dim::L(1)),
+    ("ixx", Dim::L(4)),
+    ("iyy", Dim::L(4)),
+    ("ixy", Dim::L(4)),
+    ("ip", Dim::L(4)),
+    ("i1", Dim::L(4)),
+    ("i2", Dim::L(4)),
+    ("theta_deg", Dim::None),
+    ("wx_top", Dim::L(3)),
+    ("wx_bottom", Dim::L(3)),
+    ("wy_left", Dim::L(3)),
+    ("wy_right", Dim::L(3)),
+    ("rx", Dim::L(1)),
+    ("ry", Dim::L(1)),
+    ("r1", Dim::L(1)),
+    ("r2", Dim::L(1)),
+    ("mass_kg_per_m", Dim::None),
+];
+
+/// Leading text columns.
+const TEXT: &[&str] = &["file", "profile", "status", "message", "layer", "drawing_units"];
+
+/// The header for output length unit `unit`.
+pub fn header(unit: LengthUnit) -> Vec<String> {
+    let mut h: Vec<String> = TEXT.iter().map(|s| s.to_string()).collect();
+    for (stem, dim) in NUMERIC {
+        h.push(match dim {
+            Dim::None => stem.to_string(),
+            Dim::L(1) => format!("{stem}_{}", unit.name),
+            Dim::L(p) => format!("{stem}_{}{p}", unit.name),
+        });
+    }
+    h
+}
+
+/// Numeric values of a row in the column order of [`NUMERIC`], converted from millimetres
+/// to `unit`; `None` for an error row.
+pub fn numeric_values(o: &Outcome, unit: LengthUnit, density_kg_m3: f64) -> Option<Vec<f64>> {
+    let p = o.result.as_ref().ok()?;
+    let raw = [
+        p.area,
+        p.perimeter,
+        p.perimeter_outer,
+        p.n_holes as f64,
+        p.centroid.x,
+        p.centroid.y,
+        p.bbox.min.x,
+        p.bbox.min.y,
+        p.bbox.max.x,
+        p.bbox.max.y,
+        p.ixx,
+        p.iyy,
+        p.ixy,
+        p.ip,
+        p.i1,
+        p.i2,
+        p.theta_deg,
+        p.wx_top,
+        p.wx_bottom,
+        p.wy_left,
+        p.wy_right,
+        p.rx,
+        p.ry,
+        p.r1,
+        p.r2,
+        // kg/m = mm² · 1e-6 m²/mm² · kg/m³
+        p.area * 1e-6 * density_kg_m3,
+    ];
+    Some(
+        raw.iter()
+            .zip(NUMERIC)
+            .map(|(v, (_, dim))| match dim {
+                Dim::None => *v,
+                Dim::L(k) => *v / unit.mm.powi(*k),
+            })
+            .collect(),
+    )
+}

@@ -1,0 +1,7 @@
+//! Section properties of profiles, from the exact area integrals of [`crate::geom::moments`].
+//!
+//! This module does no I/O. All lengths are millimetres.
+
+pub mod props;
+
+pub use props::{section_props, SectionProps};
