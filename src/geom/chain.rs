@@ -10,8 +10,8 @@
 //!   another chain's end) are close compared with its length, stray geometry otherwise;
 //! - a node where three or more ends meet is a branch, reported as an error.
 //!
-//! Gaps up to `join_gap` are bridged with a short straight edge so that every loop is exactly
-//! closed; Green's theorem then gives the same result about any origin.
+//! Ends merged into one node are moved onto the node's position, so that every chained loop
+//! is exactly closed; Green's theorem then gives the same result about any origin.
 
 use std::collections::HashMap;
 
@@ -232,6 +232,20 @@ fn close_up(mut segments: Vec<Segment>, layer: String, origin: Origin) -> Loop {
     }
 }
 
+/// The segment with its ends moved onto the merged node positions (by at most `join_gap`),
+/// so that consecutive segments share their end points exactly. An arc keeps its centre,
+/// radius and sweep; its chord moves with the ends.
+fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
+    match seg {
+        Segment::Line { .. } => Segment::Line { a: start, b: end },
+        Segment::Arc(mut arc) => {
+            arc.start = start;
+            arc.end = end;
+            Segment::Arc(arc)
+        }
+    }
+}
+
 /// Grid of merged endpoint nodes.
 struct Nodes {
     cell: f64,
@@ -344,7 +358,7 @@ fn link(segs: &[(Segment, usize)], pieces: &[Piece], join_gap: f64, out: &mut Ch
             } else {
                 (segs[s as usize].0.reversed(), a)
             };
-            run.push(seg);
+            run.push(snapped(seg, nodes.pos[node as usize], nodes.pos[next as usize]));
             node = next;
             if node == start_node {
                 return (run, node, true);

@@ -1,0 +1,210 @@
+//! Chaining loose entities into loops, nesting holes, and the errors on bad outlines.
+
+mod util;
+
+use std::f64::consts::PI;
+
+use sectio::analyze::{measure_drawing, Settings};
+use sectio::geom::{Arc, Segment};
+use util::*;
+
+fn line(a: (f64, f64), b: (f64, f64)) -> sectio::import::Piece {
+    open(vec![Segment::line(p(a.0, a.1), p(b.0, b.1))])
+}
+
+fn errors(out: &[sectio::Outcome]) -> Vec<String> {
+    out.iter().filter_map(|o| o.result.clone().err()).collect()
+}
+
+#[test]
+fn loose_lines_with_rounding_noise_chain_into_one_loop() {
+    let e = 1e-6;
+    let pieces = vec![
+        line((100.0, 40.0 + e), (0.0 - e, 40.0)),
+        line((0.0, 0.0), (100.0 + e, 0.0)),
+        line((0.0, 40.0 + e), (0.0, 0.0 - e)),
+        line((100.0, 40.0), (100.0 - e, 0.0)), // drawn downwards (reversed)
+    ];
+    let s = only(pieces);
+    assert_close!(s.area, 4000.0, rel = 1e-7);
+    assert_close!(s.centroid.x, 50.0, rel = 1e-7);
+}
+
+#[test]
+fn duplicates_are_removed_and_counted() {
+    let mut pieces: Vec<_> = rect(0.0, 0.0, 20.0, 10.0)
+        .into_iter()
+        .map(|s| open(vec![s]))
+        .collect();
+    pieces.push(open(vec![rect(0.0, 0.0, 20.0, 10.0)[0].reversed()])); // reversed duplicate
+    pieces.push(closed(circle(10.0, 5.0, 2.0)));
+    pieces.push(closed(circle(10.0, 5.0, 2.0))); // exact duplicate
+    let out = measure(pieces);
+    assert_eq!(out.len(), 1, "{out:#?}");
+    let s = out[0].result.as_ref().expect("ok row");
+    assert_eq!(s.n_holes, 1);
+    assert_close!(s.area, 200.0 - PI * 4.0, rel = 1e-13);
+    assert!(out[0].message.contains("2 duplicate entities removed"), "{}", out[0].message);
+}
+
+#[test]
+fn an_open_chain_is_an_error_naming_the_gap() {
+    // A 100 × 50 rectangle whose last edge stops 0.5 short of the start.
+    let pieces = vec![
+        line((0.0, 0.0), (100.0, 0.0)),
+        line((100.0, 0.0), (100.0, 50.0)),
+        line((100.0, 50.0), (0.0, 50.0)),
+        line((0.0, 50.0), (0.0, 0.5)),
+    ];
+    let out = measure(pieces);
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{out:#?}");
+    assert!(errs[0].contains("broken loop"), "{}", errs[0]);
+    assert!(errs[0].contains("gap 0.5"), "{}", errs[0]);
+    assert!(errs[0].contains("(0, 0.5)") && errs[0].contains("(0, 0)"), "{}", errs[0]);
+}
+
+#[test]
+fn a_tube_with_a_broken_outer_circle_is_not_reported_as_its_bore() {
+    // Outer circle r = 25 drawn as two arcs with gaps of 0.2 mm at both joints; bore r = 22.
+    let c = p(0.0, 0.0);
+    let gap_ang = 0.2 / 25.0;
+    let pieces = vec![
+        open(vec![Segment::Arc(Arc::from_center(c, 25.0, 0.0, PI - gap_ang))]),
+        open(vec![Segment::Arc(Arc::from_center(c, 25.0, PI, PI - gap_ang))]),
+        closed(circle(0.0, 0.0, 22.0)),
+    ];
+    let out = measure(pieces);
+    assert!(out.iter().all(|o| o.result.is_err()), "no ok row may pretend: {out:#?}");
+    let errs = errors(&out).join(" | ");
+    assert!(errs.contains("broken loop"), "{errs}");
+}
+
+#[test]
+fn a_branch_is_an_error_naming_the_point() {
+    let mut pieces: Vec<_> = rect(0.0, 0.0, 10.0, 10.0)
+        .into_iter()
+        .map(|s| open(vec![s]))
+        .collect();
+    pieces.push(line((10.0, 10.0), (20.0, 20.0)));
+    let out = measure(pieces);
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{out:#?}");
+    assert!(errs[0].contains("branch: 3 segment ends meet at (10, 10)"), "{}", errs[0]);
+}
+
+#[test]
+fn a_self_intersecting_loop_is_an_error() {
+    // Bow-tie.
+    let out = measure(vec![closed(poly(
+        &[(0.0, 0.0), (10.0, 10.0), (10.0, 0.0), (0.0, 10.0)],
+        &[],
+    ))]);
+    let errs = errors(&out);
+    assert_eq!(errs.len(), 1, "{out:#?}");
+    assert!(errs[0].contains("self-intersecting"), "{}", errs[0]);
+    assert!(errs[0].contains("(5, 5)"), "{}", errs[0]);
+}
+
+#[test]
+fn crossing_loops_are_errors() {
+    let out = measure(vec![
+        closed(rect(0.0, 0.0, 10.0, 10.0)),
+        closed(rect(5.0, 5.0, 10.0, 10.0)),
+    ]);
+    assert!(out.iter().all(|o| o.result.is_err()), "{out:#?}");
+    assert!(errors(&out).join(" ").contains("loops cross"));
+}
+
+#[test]
+fn holes_and_islands_nest_by_depth() {
+    // Square 100 with a square hole 60 holding a square island 20 with a round hole.
+    let out = measure(vec![
+        closed(rect(0.0, 0.0, 100.0, 100.0)),
+        closed(rect(20.0, 20.0, 60.0, 60.0)),
+        closed(rect(40.0, 40.0, 20.0, 20.0)),
+        closed(circle(50.0, 50.0, 5.0)),
+    ]);
+    assert_eq!(out.len(), 2, "{out:#?}");
+    let a = out[0].result.as_ref().expect("outer ok");
+    let b = out[1].result.as_ref().expect("island ok");
+    assert_eq!((a.n_holes, b.n_holes), (1, 1));
+    assert_close!(a.area, 100.0 * 100.0 - 60.0 * 60.0, rel = 1e-14);
+    assert_close!(b.area, 400.0 - PI * 25.0, rel = 1e-14);
+    assert_eq!((out[0].profile, out[1].profile), (1, 2));
+}
+
+#[test]
+fn holes_touching_each_other_are_fine() {
+    let out = measure(vec![
+        closed(rect(0.0, 0.0, 40.0, 20.0)),
+        closed(circle(15.0, 10.0, 5.0)),
+        closed(circle(25.0, 10.0, 5.0)),
+    ]);
+    assert_eq!(out.len(), 1, "{out:#?}");
+    let s = out[0].result.as_ref().expect("ok");
+    assert_eq!(s.n_holes, 2);
+    assert_close!(s.area, 800.0 - 2.0 * PI * 25.0, rel = 1e-13);
+}
+
+#[test]
+fn stray_centre_lines_are_skipped_with_a_note() {
+    let mut pieces = vec![closed(rect(0.0, 0.0, 10.0, 10.0))];
+    pieces.push(line((-5.0, 5.0), (15.0, 5.0)));
+    let out = measure(pieces);
+    assert_eq!(out.len(), 1, "{out:#?}");
+    assert!(out[0].result.is_ok());
+    assert!(out[0].message.contains("1 open chains ignored"), "{}", out[0].message);
+}
+
+#[test]
+fn zero_area_loops_are_errors() {
+    let out = measure(vec![closed(vec![
+        Segment::line(p(0.0, 0.0), p(10.0, 0.0)),
+        Segment::line(p(10.0, 0.0), p(0.0, 0.0)),
+    ])]);
+    assert!(errors(&out).join(" ").contains("encloses no area"), "{out:#?}");
+}
+
+#[test]
+fn merge_makes_one_section_of_a_file() {
+    let d = drawing(vec![
+        closed(rect(0.0, 0.0, 10.0, 100.0)),
+        closed(rect(90.0, 0.0, 10.0, 100.0)),
+    ]);
+    let settings = Settings {
+        merge: true,
+        ..Settings::default()
+    };
+    let out = measure_drawing(d, &settings);
+    assert_eq!(out.len(), 1);
+    let s = out[0].result.as_ref().expect("ok");
+    // Two 10 × 100 strips 80 apart: Iy = 2·(100·10³/12 + 1000·45²) (parallel-axis theorem).
+    assert_close!(s.area, 2000.0, rel = 1e-14);
+    assert_close!(s.iyy, 2.0 * (100.0 * 1000.0 / 12.0 + 1000.0 * 45.0 * 45.0), rel = 1e-13);
+}
+
+#[test]
+fn thousands_of_profiles_in_one_file() {
+    // 60 × 60 grid of squares, each with a round hole: 3600 profiles, 7200 loops.
+    let mut pieces = Vec::new();
+    for i in 0..60 {
+        for j in 0..60 {
+            let (x, y) = (i as f64 * 20.0, j as f64 * 20.0);
+            pieces.push(closed(rect(x, y, 10.0, 10.0)));
+            pieces.push(closed(circle(x + 5.0, y + 5.0, 2.0)));
+        }
+    }
+    let out = measure(pieces);
+    assert_eq!(out.len(), 3600);
+    for o in &out {
+        let s = o.result.as_ref().expect("ok");
+        assert_eq!(s.n_holes, 1);
+        assert_close!(s.area, 100.0 - PI * 4.0, rel = 1e-12);
+    }
+    // Reading order: left to right, then bottom to top.
+    let first = out[0].result.as_ref().expect("ok");
+    let second = out[1].result.as_ref().expect("ok");
+    assert!(first.bbox.min.x == 0.0 && first.bbox.min.y == 0.0);
+    assert!(second.bbox.min.x == 0.0 && second.bbox.min.y == 20.0);
+}
