@@ -109,7 +109,9 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         .flat_map(|p| p.segments.iter())
         .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()))
         .diagonal();
-    let join_gap = settings.join_gap.unwrap_or_else(|| default_join_gap(extent));
+    let join_gap = settings
+        .join_gap
+        .unwrap_or_else(|| default_join_gap(extent));
     let chained = chain(&drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
@@ -128,7 +130,10 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         ));
     }
     if chained.degenerate > 0 {
-        notes.push(format!("{} segments shorter than the gap {} mm dropped", chained.degenerate, join_gap));
+        notes.push(format!(
+            "{} segments shorter than the gap {} mm dropped",
+            chained.degenerate, join_gap
+        ));
     }
     let note = notes.join("; ");
 
@@ -154,7 +159,11 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         profile: 0,
         layer: layer.to_string(),
         drawing_units: units_label.clone(),
-        message: if result.is_ok() { note.clone() } else { String::new() },
+        message: if result.is_ok() {
+            note.clone()
+        } else {
+            String::new()
+        },
         result,
     };
     if settings.merge && !profiles.is_empty() {
@@ -203,7 +212,12 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         return file_row(&units_label, msg);
     }
     // Reading order: left to right by the left edge of each box, then bottom to top.
-    items.sort_by(|a, b| a.key.0.total_cmp(&b.key.0).then(a.key.1.total_cmp(&b.key.1)));
+    items.sort_by(|a, b| {
+        a.key
+            .0
+            .total_cmp(&b.key.0)
+            .then(a.key.1.total_cmp(&b.key.1))
+    });
     items
         .into_iter()
         .enumerate()

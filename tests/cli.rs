@@ -10,7 +10,9 @@ use std::process::{Command, Output};
 const BIN: &str = env!("CARGO_BIN_EXE_sectio");
 
 fn fixture(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures").join(name)
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("fixtures")
+        .join(name)
 }
 
 fn run(args: &[&str]) -> Output {
@@ -26,21 +28,38 @@ struct Row(HashMap<String, String>);
 
 impl Row {
     fn s(&self, k: &str) -> &str {
-        self.0.get(k).map(String::as_str).unwrap_or_else(|| panic!("no column {k}"))
+        self.0
+            .get(k)
+            .map(String::as_str)
+            .unwrap_or_else(|| panic!("no column {k}"))
     }
     fn f(&self, k: &str) -> f64 {
-        self.s(k).replace(',', ".").parse().unwrap_or_else(|_| panic!("{k} = {:?} is not a number", self.s(k)))
+        self.s(k)
+            .replace(',', ".")
+            .parse()
+            .unwrap_or_else(|_| panic!("{k} = {:?} is not a number", self.s(k)))
     }
 }
 
 fn parse(csv_text: &[u8], delimiter: u8) -> (Vec<String>, Vec<Row>) {
-    let mut r = csv::ReaderBuilder::new().delimiter(delimiter).from_reader(csv_text);
-    let header: Vec<String> = r.headers().expect("header").iter().map(String::from).collect();
+    let mut r = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .from_reader(csv_text);
+    let header: Vec<String> = r
+        .headers()
+        .expect("header")
+        .iter()
+        .map(String::from)
+        .collect();
     let rows = r
         .records()
         .map(|rec| {
             let rec = rec.expect("record");
-            Row(header.iter().cloned().zip(rec.iter().map(String::from)).collect())
+            Row(header
+                .iter()
+                .cloned()
+                .zip(rec.iter().map(String::from))
+                .collect())
         })
         .collect();
     (header, rows)
@@ -51,7 +70,12 @@ fn measure(args: &[&str]) -> (i32, Vec<String>, Vec<Row>, String) {
     all.extend_from_slice(args);
     let out = run(&all);
     let (h, rows) = parse(&out.stdout, b',');
-    (out.status.code().unwrap_or(-1), h, rows, String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.code().unwrap_or(-1),
+        h,
+        rows,
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 fn path(name: &str) -> String {
@@ -63,22 +87,53 @@ fn tube_gives_one_ok_row_with_the_required_columns() {
     let (code, header, rows, stderr) = measure(&[&path("dxf/tube.dxf")]);
     assert_eq!(code, 0, "{stderr}");
     for col in [
-        "file", "profile", "status", "message", "area_mm2", "perimeter_mm", "holes", "cx_mm", "cy_mm",
-        "ixx_mm4", "iyy_mm4", "ixy_mm4", "i1_mm4", "i2_mm4", "theta_deg",
+        "file",
+        "profile",
+        "status",
+        "message",
+        "area_mm2",
+        "perimeter_mm",
+        "holes",
+        "cx_mm",
+        "cy_mm",
+        "ixx_mm4",
+        "iyy_mm4",
+        "ixy_mm4",
+        "i1_mm4",
+        "i2_mm4",
+        "theta_deg",
     ] {
-        assert!(header.iter().any(|h| h == col), "missing column {col} in {header:?}");
+        assert!(
+            header.iter().any(|h| h == col),
+            "missing column {col} in {header:?}"
+        );
     }
     assert_eq!(rows.len(), 1);
     let r = &rows[0];
     assert_eq!(r.s("status"), "ok");
     assert_eq!(r.s("profile"), "1");
     // Hollow circle D = 50, d = 44: A = π(D²−d²)/4, I = π(D⁴−d⁴)/64 (Roark Table A.1; check-values §1).
-    assert_close!(r.f("area_mm2"), PI * (50.0f64.powi(2) - 44.0f64.powi(2)) / 4.0, rel = 1e-11);
-    assert_close!(r.f("ixx_mm4"), PI * (50.0f64.powi(4) - 44.0f64.powi(4)) / 64.0, rel = 1e-11);
+    assert_close!(
+        r.f("area_mm2"),
+        PI * (50.0f64.powi(2) - 44.0f64.powi(2)) / 4.0,
+        rel = 1e-11
+    );
+    assert_close!(
+        r.f("ixx_mm4"),
+        PI * (50.0f64.powi(4) - 44.0f64.powi(4)) / 64.0,
+        rel = 1e-11
+    );
     assert_eq!(r.f("holes"), 1.0);
     // Mass per metre = A × 2700 kg/m³ (EN 1999-1-1 §3.2.5 density of aluminium; check-values §5).
-    assert_close!(r.f("mass_kg_per_m"), r.f("area_mm2") * 1e-6 * 2700.0, rel = 1e-11);
-    assert!(stderr.contains("1 files, 1 profiles measured, 0 errors"), "{stderr}");
+    assert_close!(
+        r.f("mass_kg_per_m"),
+        r.f("area_mm2") * 1e-6 * 2700.0,
+        rel = 1e-11
+    );
+    assert!(
+        stderr.contains("1 files, 1 profiles measured, 0 errors"),
+        "{stderr}"
+    );
 }
 
 #[test]
@@ -102,7 +157,11 @@ fn unitless_drawings_assume_millimetres_and_say_so() {
     let (code, _, rows, _) = measure(&[&path("dxf/plate_unitless.dxf")]);
     assert_eq!(code, 0);
     assert_eq!(rows[0].s("drawing_units"), "mm (assumed)");
-    assert!(rows[0].s("message").contains("mm assumed"), "{}", rows[0].s("message"));
+    assert!(
+        rows[0].s("message").contains("mm assumed"),
+        "{}",
+        rows[0].s("message")
+    );
     assert_close!(rows[0].f("area_mm2"), 800.0, rel = 1e-14);
     let (_, _, rows, _) = measure(&[&path("dxf/plate_unitless.dxf"), "--assume-units", "cm"]);
     assert_eq!(rows[0].s("drawing_units"), "cm (assumed)");
@@ -115,7 +174,11 @@ fn layers_choose_what_is_measured() {
     let (_, _, rows, _) = measure(&[&path("dxf/layers.dxf")]);
     assert_eq!(rows.len(), 1);
     assert_close!(rows[0].f("area_mm2"), 300.0 * 200.0 - 300.0, rel = 1e-13);
-    assert!(rows[0].s("message").contains("TEXT"), "{}", rows[0].s("message"));
+    assert!(
+        rows[0].s("message").contains("TEXT"),
+        "{}",
+        rows[0].s("message")
+    );
     for args in [vec!["--layer", "PROF*"], vec!["--exclude-layer", "title"]] {
         let mut a = vec![path("dxf/layers.dxf")];
         a.extend(args.iter().map(|s| s.to_string()));
@@ -126,21 +189,41 @@ fn layers_choose_what_is_measured() {
         assert_eq!(rows[0].s("layer"), "PROFILE");
         assert_close!(rows[0].f("area_mm2"), 300.0, rel = 1e-14);
     }
-    let (_, _, rows, _) = measure(&[&path("dxf/layers.dxf"), "--layer", "PROFILE", "--layer", "HIDDEN", "--include-hidden-layers"]);
-    assert_eq!(rows.len(), 2, "the circle on the layer that is off is read on request");
+    let (_, _, rows, _) = measure(&[
+        &path("dxf/layers.dxf"),
+        "--layer",
+        "PROFILE",
+        "--layer",
+        "HIDDEN",
+        "--include-hidden-layers",
+    ]);
+    assert_eq!(
+        rows.len(),
+        2,
+        "the circle on the layer that is off is read on request"
+    );
 }
 
 #[test]
 fn bad_files_get_error_rows_and_exit_1_while_good_files_still_come_out() {
     let names = ["empty", "garbage", "truncated", "tube"];
-    let args: Vec<String> = names.iter().map(|n| path(&format!("dxf/{n}.dxf"))).collect();
+    let args: Vec<String> = names
+        .iter()
+        .map(|n| path(&format!("dxf/{n}.dxf")))
+        .collect();
     let args: Vec<&str> = args.iter().map(String::as_str).collect();
     let (code, _, rows, stderr) = measure(&args);
     assert_eq!(code, 1, "{stderr}");
     assert_eq!(rows.len(), 4, "{rows:?}");
-    let by_file = |n: &str| rows.iter().find(|r| r.s("file").ends_with(&format!("{n}.dxf"))).expect("row");
+    let by_file = |n: &str| {
+        rows.iter()
+            .find(|r| r.s("file").ends_with(&format!("{n}.dxf")))
+            .expect("row")
+    };
     assert!(by_file("empty").s("message").contains("empty file"));
-    assert!(by_file("garbage").s("status") == "error" && !by_file("garbage").s("message").is_empty());
+    assert!(
+        by_file("garbage").s("status") == "error" && !by_file("garbage").s("message").is_empty()
+    );
     let t = by_file("truncated").s("message");
     assert!(t.contains("truncated") && t.contains("line"), "{t}");
     assert_eq!(by_file("tube").s("status"), "ok");
@@ -162,17 +245,27 @@ fn geometry_errors_name_what_and_where() {
     for (name, expect) in cases {
         let (code, _, rows, _) = measure(&[&path(&format!("dxf/{name}.dxf"))]);
         assert_eq!(code, 1, "{name}");
-        assert!(rows.iter().all(|r| r.s("status") == "error"), "{name}: {rows:?}");
+        assert!(
+            rows.iter().all(|r| r.s("status") == "error"),
+            "{name}: {rows:?}"
+        );
         let msgs: Vec<&str> = rows.iter().map(|r| r.s("message")).collect();
         assert!(msgs.iter().any(|m| m.contains(expect)), "{name}: {msgs:?}");
-        assert!(msgs.iter().any(|m| m.contains("line ")), "{name}: the entity's line is named: {msgs:?}");
+        assert!(
+            msgs.iter().any(|m| m.contains("line ")),
+            "{name}: the entity's line is named: {msgs:?}"
+        );
     }
     let (code, _, rows, _) = measure(&[&path("dxf/one_good_one_broken.dxf")]);
     assert_eq!(code, 1);
     assert_eq!(rows.len(), 2);
     assert_eq!(rows[0].s("status"), "ok");
     assert_eq!(rows[1].s("status"), "error");
-    assert!(rows[1].s("message").contains("gap 0.3"), "{}", rows[1].s("message"));
+    assert!(
+        rows[1].s("message").contains("gap 0.3"),
+        "{}",
+        rows[1].s("message")
+    );
 }
 
 #[test]
@@ -180,10 +273,32 @@ fn output_file_is_written_atomically_and_is_the_same_for_any_thread_count() {
     let dir = tempfile::tempdir().expect("temp dir");
     let a = dir.path().join("a.csv");
     let b = dir.path().join("b.csv");
-    let out1 = run(&["measure", &path("dxf"), "-o", a.to_str().unwrap(), "-j", "1"]);
-    let out2 = run(&["measure", &path("dxf"), "-o", b.to_str().unwrap(), "-j", "2"]);
-    assert_eq!(out1.status.code(), Some(1), "some fixtures are broken on purpose");
-    assert!(out1.stdout.is_empty(), "with -o nothing goes to standard output");
+    let out1 = run(&[
+        "measure",
+        &path("dxf"),
+        "-o",
+        a.to_str().unwrap(),
+        "-j",
+        "1",
+    ]);
+    let out2 = run(&[
+        "measure",
+        &path("dxf"),
+        "-o",
+        b.to_str().unwrap(),
+        "-j",
+        "2",
+    ]);
+    assert_eq!(
+        out1.status.code(),
+        Some(1),
+        "some fixtures are broken on purpose"
+    );
+    assert_eq!(out2.status.code(), Some(1));
+    assert!(
+        out1.stdout.is_empty(),
+        "with -o nothing goes to standard output"
+    );
     let (ta, tb) = (std::fs::read(&a).unwrap(), std::fs::read(&b).unwrap());
     assert_eq!(ta, tb, "output must not depend on -j");
     let leftovers: Vec<_> = std::fs::read_dir(dir.path())
@@ -204,7 +319,12 @@ fn output_file_is_written_atomically_and_is_the_same_for_any_thread_count() {
     assert_eq!(distinct.len(), n_files);
     // Writing into a folder that does not exist is an I/O error before any output.
     let bad = dir.path().join("no/such/dir/out.csv");
-    let out = run(&["measure", &path("dxf/tube.dxf"), "-o", bad.to_str().unwrap()]);
+    let out = run(&[
+        "measure",
+        &path("dxf/tube.dxf"),
+        "-o",
+        bad.to_str().unwrap(),
+    ]);
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("cannot write"));
 }
@@ -221,7 +341,13 @@ fn locale_friendly_delimiter_and_decimal_comma() {
     let out = run(&["measure", &path("dxf/tube.dxf"), "--delimiter", "tab"]);
     let (_, rows) = parse(&out.stdout, b'\t');
     assert_eq!(rows[0].s("status"), "ok");
-    let out = run(&["measure", &path("dxf/tube.dxf"), "--decimal-comma", "--delimiter", ","]);
+    let out = run(&[
+        "measure",
+        &path("dxf/tube.dxf"),
+        "--decimal-comma",
+        "--delimiter",
+        ",",
+    ]);
     assert_eq!(out.status.code(), Some(2));
 }
 
@@ -229,8 +355,20 @@ fn locale_friendly_delimiter_and_decimal_comma() {
 fn density_and_merge() {
     let (_, _, rows, _) = measure(&[&path("dxf/tube.dxf"), "--density", "7850"]);
     // Steel 7850 kg/m³ (EN 1993-1-1 tables basis; check-values §5).
-    assert_close!(rows[0].f("mass_kg_per_m"), rows[0].f("area_mm2") * 7850e-6, rel = 1e-12);
-    let (_, _, rows, _) = measure(&[&path("dxf/layers.dxf"), "--layer", "PROFILE", "--layer", "HIDDEN", "--include-hidden-layers", "--merge"]);
+    assert_close!(
+        rows[0].f("mass_kg_per_m"),
+        rows[0].f("area_mm2") * 7850e-6,
+        rel = 1e-12
+    );
+    let (_, _, rows, _) = measure(&[
+        &path("dxf/layers.dxf"),
+        "--layer",
+        "PROFILE",
+        "--layer",
+        "HIDDEN",
+        "--include-hidden-layers",
+        "--merge",
+    ]);
     assert_eq!(rows.len(), 1);
     assert_close!(rows[0].f("area_mm2"), 300.0 + PI * 25.0, rel = 1e-13);
 }

@@ -57,7 +57,11 @@ fn tube() {
     assert_eq!(s.n_holes, 1);
     assert_close!(s.area, PI * (dd * dd - d * d) / 4.0, rel = 1e-13);
     assert_close!(s.ixx, PI * (dd.powi(4) - d.powi(4)) / 64.0, rel = 1e-13);
-    assert_close!(s.wx_top, PI * (dd.powi(4) - d.powi(4)) / (32.0 * dd), rel = 1e-13);
+    assert_close!(
+        s.wx_top,
+        PI * (dd.powi(4) - d.powi(4)) / (32.0 * dd),
+        rel = 1e-13
+    );
     assert_close!(s.rx, (dd * dd + d * d).sqrt() / 4.0, rel = 1e-13);
     assert_close!(s.perimeter, PI * (dd + d), rel = 1e-14);
     assert_close!(s.perimeter_outer, PI * dd, rel = 1e-14);
@@ -95,7 +99,11 @@ fn semicircle() {
     assert_close!(s.area, PI * r * r / 2.0, rel = 1e-14);
     assert_close!(s.centroid.y, 4.0 * r / (3.0 * PI), rel = 1e-13);
     assert_close!(s.centroid.x, 0.0, abs = 1e-12);
-    assert_close!(s.ixx, (PI / 8.0 - 8.0 / (9.0 * PI)) * r.powi(4), rel = 1e-13);
+    assert_close!(
+        s.ixx,
+        (PI / 8.0 - 8.0 / (9.0 * PI)) * r.powi(4),
+        rel = 1e-13
+    );
     assert_close!(s.iyy, PI * r.powi(4) / 8.0, rel = 1e-13);
     assert_close!(s.wx_top, 0.190687 * r.powi(3), rel = 2e-6);
     assert_close!(s.wx_bottom, 0.258609 * r.powi(3), rel = 2e-6);
@@ -124,8 +132,16 @@ fn quarter_circle_product_of_area() {
     // 0.038407 r⁴ (check-values §1).
     assert_close!(s.area, PI * r * r / 4.0, rel = 1e-14);
     assert_close!(s.centroid.x, 4.0 * r / (3.0 * PI), rel = 1e-13);
-    assert_close!(s.ixx, (PI / 16.0 - 4.0 / (9.0 * PI)) * r.powi(4), rel = 1e-13);
-    assert_close!(s.ixy, (1.0 / 8.0 - 4.0 / (9.0 * PI)) * r.powi(4), rel = 1e-12);
+    assert_close!(
+        s.ixx,
+        (PI / 16.0 - 4.0 / (9.0 * PI)) * r.powi(4),
+        rel = 1e-13
+    );
+    assert_close!(
+        s.ixy,
+        (1.0 / 8.0 - 4.0 / (9.0 * PI)) * r.powi(4),
+        rel = 1e-12
+    );
     assert_close!(s.i1, 0.071350 * r.powi(4), rel = 1e-5);
     assert_close!(s.i2, 0.038407 * r.powi(4), rel = 2e-5);
     // The principal values are the extremes of the moment about a rotated axis (Mohr's circle).
@@ -134,7 +150,11 @@ fn quarter_circle_product_of_area() {
         (s.ixx + s.iyy) / 2.0 + (s.ixx - s.iyy) / 2.0 * c2 - s.ixy * s2
     };
     assert_close!(about(s.theta_deg.to_radians()), s.i1, rel = 1e-12);
-    assert_close!(about(s.theta_deg.to_radians() + PI / 2.0), s.i2, rel = 1e-12);
+    assert_close!(
+        about(s.theta_deg.to_radians() + PI / 2.0),
+        s.i2,
+        rel = 1e-12
+    );
 }
 
 #[test]
@@ -164,7 +184,11 @@ fn rounded_rectangle() {
     assert_close!(s.ixx, ixx, rel = 1e-12);
     assert_close!(s.centroid.x, b / 2.0, rel = 1e-14);
     assert_close!(s.centroid.y, h / 2.0, rel = 1e-14);
-    assert_close!(s.perimeter, 2.0 * (b + h) - 8.0 * r + 2.0 * PI * r, rel = 1e-14);
+    assert_close!(
+        s.perimeter,
+        2.0 * (b + h) - 8.0 * r + 2.0 * PI * r,
+        rel = 1e-14
+    );
 }
 
 #[test]

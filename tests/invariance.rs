@@ -30,7 +30,11 @@ fn random_profile(rng: &mut StdRng) -> Vec<Piece> {
     }
     vec![
         closed(poly(&pts, &bulges)),
-        closed(circle(rng.random_range(0.0..10.0), rng.random_range(-8.0..2.0), 12.0)),
+        closed(circle(
+            rng.random_range(0.0..10.0),
+            rng.random_range(-8.0..2.0),
+            12.0,
+        )),
     ]
 }
 
@@ -68,8 +72,16 @@ fn translation_far_from_origin() {
             // 1e-16·|shift| of precision, so the tolerance grows with the shift.
             let rel = 1e-9 * (shift.norm() / 1e6).max(1.0);
             same(&a, &b, rel);
-            assert_close!(b.centroid.x - shift.x, a.centroid.x, abs = 1e-7 * shift.norm() / 1e6);
-            assert_close!(b.centroid.y - shift.y, a.centroid.y, abs = 1e-7 * shift.norm() / 1e6);
+            assert_close!(
+                b.centroid.x - shift.x,
+                a.centroid.x,
+                abs = 1e-7 * shift.norm() / 1e6
+            );
+            assert_close!(
+                b.centroid.y - shift.y,
+                a.centroid.y,
+                abs = 1e-7 * shift.norm() / 1e6
+            );
         }
     }
 }
@@ -104,7 +116,13 @@ fn rotation_turns_the_tensor_as_mohrs_circle_says() {
         assert_close!(b.area, a.area, rel = 1e-12);
         // The principal direction turns with the body (mod 180°).
         let d = (b.theta_deg - a.theta_deg - phi.to_degrees()).rem_euclid(180.0);
-        assert!(d.min(180.0 - d) < 1e-6, "theta {} -> {} for φ {}", a.theta_deg, b.theta_deg, phi.to_degrees());
+        assert!(
+            d.min(180.0 - d) < 1e-6,
+            "theta {} -> {} for φ {}",
+            a.theta_deg,
+            b.theta_deg,
+            phi.to_degrees()
+        );
     }
 }
 
@@ -165,7 +183,10 @@ fn direction_start_point_and_splitting_change_nothing() {
             .map(|pc| {
                 let mut segs: Vec<Segment> = pc.segments.iter().map(|s| s.reversed()).collect();
                 segs.reverse();
-                Piece { segments: segs, ..pc.clone() }
+                Piece {
+                    segments: segs,
+                    ..pc.clone()
+                }
             })
             .collect();
         same(&a, &only(reversed), 1e-12);
@@ -176,7 +197,10 @@ fn direction_start_point_and_splitting_change_nothing() {
                 let mut segs = pc.segments.clone();
                 let k = rng.random_range(0..segs.len());
                 segs.rotate_left(k);
-                Piece { segments: segs, ..pc.clone() }
+                Piece {
+                    segments: segs,
+                    ..pc.clone()
+                }
             })
             .collect();
         same(&a, &only(rotated), 1e-12);
@@ -184,7 +208,13 @@ fn direction_start_point_and_splitting_change_nothing() {
         let mut loose: Vec<Piece> = base[0]
             .segments
             .iter()
-            .map(|s| open(vec![if rng.random_bool(0.5) { s.reversed() } else { *s }]))
+            .map(|s| {
+                open(vec![if rng.random_bool(0.5) {
+                    s.reversed()
+                } else {
+                    *s
+                }])
+            })
             .collect();
         for i in (1..loose.len()).rev() {
             let j = rng.random_range(0..=i);
@@ -210,7 +240,8 @@ fn polygons_agree_with_geo() {
             pts.push((rad * ang.cos() + 1000.0, rad * ang.sin() - 500.0));
         }
         let ours = only(vec![closed(poly(&pts, &[]))]);
-        let ring: Vec<geo::Coord<f64>> = pts.iter().map(|&(x, y)| geo::coord! {x: x, y: y}).collect();
+        let ring: Vec<geo::Coord<f64>> =
+            pts.iter().map(|&(x, y)| geo::coord! {x: x, y: y}).collect();
         let gp = geo::Polygon::new(geo::LineString::from(ring), vec![]);
         let area = gp.unsigned_area();
         let c = gp.centroid().expect("non-empty polygon");

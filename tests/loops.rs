@@ -44,7 +44,11 @@ fn duplicates_are_removed_and_counted() {
     let s = out[0].result.as_ref().expect("ok row");
     assert_eq!(s.n_holes, 1);
     assert_close!(s.area, 200.0 - PI * 4.0, rel = 1e-13);
-    assert!(out[0].message.contains("2 duplicate entities removed"), "{}", out[0].message);
+    assert!(
+        out[0].message.contains("2 duplicate entities removed"),
+        "{}",
+        out[0].message
+    );
 }
 
 #[test]
@@ -61,7 +65,11 @@ fn an_open_chain_is_an_error_naming_the_gap() {
     assert_eq!(errs.len(), 1, "{out:#?}");
     assert!(errs[0].contains("broken loop"), "{}", errs[0]);
     assert!(errs[0].contains("gap 0.5"), "{}", errs[0]);
-    assert!(errs[0].contains("(0, 0.5)") && errs[0].contains("(0, 0)"), "{}", errs[0]);
+    assert!(
+        errs[0].contains("(0, 0.5)") && errs[0].contains("(0, 0)"),
+        "{}",
+        errs[0]
+    );
 }
 
 #[test]
@@ -70,12 +78,25 @@ fn a_tube_with_a_broken_outer_circle_is_not_reported_as_its_bore() {
     let c = p(0.0, 0.0);
     let gap_ang = 0.2 / 25.0;
     let pieces = vec![
-        open(vec![Segment::Arc(Arc::from_center(c, 25.0, 0.0, PI - gap_ang))]),
-        open(vec![Segment::Arc(Arc::from_center(c, 25.0, PI, PI - gap_ang))]),
+        open(vec![Segment::Arc(Arc::from_center(
+            c,
+            25.0,
+            0.0,
+            PI - gap_ang,
+        ))]),
+        open(vec![Segment::Arc(Arc::from_center(
+            c,
+            25.0,
+            PI,
+            PI - gap_ang,
+        ))]),
         closed(circle(0.0, 0.0, 22.0)),
     ];
     let out = measure(pieces);
-    assert!(out.iter().all(|o| o.result.is_err()), "no ok row may pretend: {out:#?}");
+    assert!(
+        out.iter().all(|o| o.result.is_err()),
+        "no ok row may pretend: {out:#?}"
+    );
     let errs = errors(&out).join(" | ");
     assert!(errs.contains("broken loop"), "{errs}");
 }
@@ -90,7 +111,11 @@ fn a_branch_is_an_error_naming_the_point() {
     let out = measure(pieces);
     let errs = errors(&out);
     assert_eq!(errs.len(), 1, "{out:#?}");
-    assert!(errs[0].contains("branch: 3 segment ends meet at (10, 10)"), "{}", errs[0]);
+    assert!(
+        errs[0].contains("branch: 3 segment ends meet at (10, 10)"),
+        "{}",
+        errs[0]
+    );
 }
 
 #[test]
@@ -154,7 +179,11 @@ fn stray_centre_lines_are_skipped_with_a_note() {
     let out = measure(pieces);
     assert_eq!(out.len(), 1, "{out:#?}");
     assert!(out[0].result.is_ok());
-    assert!(out[0].message.contains("1 open chains ignored"), "{}", out[0].message);
+    assert!(
+        out[0].message.contains("1 open chains ignored"),
+        "{}",
+        out[0].message
+    );
 }
 
 #[test]
@@ -163,7 +192,10 @@ fn zero_area_loops_are_errors() {
         Segment::line(p(0.0, 0.0), p(10.0, 0.0)),
         Segment::line(p(10.0, 0.0), p(0.0, 0.0)),
     ])]);
-    assert!(errors(&out).join(" ").contains("encloses no area"), "{out:#?}");
+    assert!(
+        errors(&out).join(" ").contains("encloses no area"),
+        "{out:#?}"
+    );
 }
 
 #[test]
@@ -181,7 +213,11 @@ fn merge_makes_one_section_of_a_file() {
     let s = out[0].result.as_ref().expect("ok");
     // Two 10 × 100 strips 80 apart: Iy = 2·(100·10³/12 + 1000·45²) (parallel-axis theorem).
     assert_close!(s.area, 2000.0, rel = 1e-14);
-    assert_close!(s.iyy, 2.0 * (100.0 * 1000.0 / 12.0 + 1000.0 * 45.0 * 45.0), rel = 1e-13);
+    assert_close!(
+        s.iyy,
+        2.0 * (100.0 * 1000.0 / 12.0 + 1000.0 * 45.0 * 45.0),
+        rel = 1e-13
+    );
 }
 
 #[test]

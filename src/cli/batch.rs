@@ -45,7 +45,11 @@ fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> std::io::Result<()> {
 }
 
 /// Measure every file; rows come back ordered by file (as given), then profile.
-pub fn run_batch(files: &[PathBuf], settings: &Settings, jobs: Option<usize>) -> anyhow::Result<Vec<Row>> {
+pub fn run_batch(
+    files: &[PathBuf],
+    settings: &Settings,
+    jobs: Option<usize>,
+) -> anyhow::Result<Vec<Row>> {
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(jobs.unwrap_or(0))
         .build()

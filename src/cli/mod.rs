@@ -119,7 +119,11 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         },
         started.elapsed().as_secs_f64()
     );
-    Ok(if errors > 0 { EXIT_SOME_FAILED } else { EXIT_OK })
+    Ok(if errors > 0 {
+        EXIT_SOME_FAILED
+    } else {
+        EXIT_OK
+    })
 }
 
 /// Write to a temporary file beside `path`, then rename it over `path`: readers never see

@@ -65,9 +65,17 @@ pub enum LoopProblem {
         origin: Origin,
     },
     /// A loop crosses or touches itself.
-    SelfIntersection { at: Point, bbox: BBox, origin: Origin },
+    SelfIntersection {
+        at: Point,
+        bbox: BBox,
+        origin: Origin,
+    },
     /// Two loops cross each other.
-    LoopsCross { at: Point, bbox: BBox, origin: Origin },
+    LoopsCross {
+        at: Point,
+        bbox: BBox,
+        origin: Origin,
+    },
     /// A loop encloses no area.
     ZeroArea { bbox: BBox, origin: Origin },
 }
@@ -182,7 +190,8 @@ pub fn chain(pieces: &[Piece], join_gap: f64) -> Chained {
                 out.duplicates += 1;
                 continue;
             }
-            out.loops.push(close_up(kept, piece.layer.clone(), piece.origin.clone()));
+            out.loops
+                .push(close_up(kept, piece.layer.clone(), piece.origin.clone()));
         } else {
             for s in kept {
                 if seg_seen.insert(seg_key(&s, q), ()).is_some() {
@@ -256,7 +265,10 @@ struct Nodes {
 
 impl Nodes {
     fn id(&mut self, p: Point) -> u32 {
-        let (cx, cy) = ((p.x / self.cell).floor() as i64, (p.y / self.cell).floor() as i64);
+        let (cx, cy) = (
+            (p.x / self.cell).floor() as i64,
+            (p.y / self.cell).floor() as i64,
+        );
         let mut best: Option<(f64, u32)> = None;
         for dx in -1..=1 {
             for dy in -1..=1 {
@@ -358,7 +370,11 @@ fn link(segs: &[(Segment, usize)], pieces: &[Piece], join_gap: f64, out: &mut Ch
             } else {
                 (segs[s as usize].0.reversed(), a)
             };
-            run.push(snapped(seg, nodes.pos[node as usize], nodes.pos[next as usize]));
+            run.push(snapped(
+                seg,
+                nodes.pos[node as usize],
+                nodes.pos[next as usize],
+            ));
             node = next;
             if node == start_node {
                 return (run, node, true);
@@ -390,7 +406,8 @@ fn link(segs: &[(Segment, usize)], pieces: &[Piece], join_gap: f64, out: &mut Ch
             let (run, _, closed) = walk(ends[s].0, s as u32, &mut used);
             let piece = &pieces[segs[s].1];
             if closed {
-                out.loops.push(close_up(run, piece.layer.clone(), piece.origin.clone()));
+                out.loops
+                    .push(close_up(run, piece.layer.clone(), piece.origin.clone()));
             } else {
                 open.push((run, segs[s].1));
             }

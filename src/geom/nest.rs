@@ -36,7 +36,11 @@ impl Profile {
 /// Ends shared by neighbouring segments of one loop are not crossings; two different loops
 /// that only touch (at a segment end of either) are allowed, since the regions they bound
 /// still do not overlap.
-pub fn drop_crossing_loops(loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> Vec<Loop> {
+pub fn drop_crossing_loops(
+    loops: Vec<Loop>,
+    tol: f64,
+    problems: &mut Vec<LoopProblem>,
+) -> Vec<Loop> {
     struct Item {
         lp: u32,
         sg: u32,
@@ -75,10 +79,17 @@ pub fn drop_crossing_loops(loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopPr
                 let wrap = a == 0 && b == n - 1; // a starts where b ends
                 for h in intersections(s1, s2, tol) {
                     // t values are along s1 (item i) and s2 (item j).
-                    let (ta, tb) = if it.sg == a { (h.t1, h.t2) } else { (h.t2, h.t1) };
+                    let (ta, tb) = if it.sg == a {
+                        (h.t1, h.t2)
+                    } else {
+                        (h.t2, h.t1)
+                    };
                     let shared = (next && ta >= 1.0 - 1e-9 && tb <= 1e-9)
                         || (wrap && ta <= 1e-9 && tb >= 1.0 - 1e-9)
-                        || (next && wrap && ((ta <= 1e-9 && tb >= 1.0 - 1e-9) || (ta >= 1.0 - 1e-9 && tb <= 1e-9)));
+                        || (next
+                            && wrap
+                            && ((ta <= 1e-9 && tb >= 1.0 - 1e-9)
+                                || (ta >= 1.0 - 1e-9 && tb <= 1e-9)));
                     let near_shared = (next && h.at.dist(s_end(l1, a)) <= tol)
                         || (wrap && h.at.dist(s_end(l1, b)) <= tol);
                     if !(shared || near_shared) {
@@ -164,7 +175,7 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
         let bb = l.bbox();
         let area = signed_area(&l.segments, bb.center());
         // A loop with no area: below rounding noise for its size (common practice).
-        if !(area.abs() > 1e-12 * bb.width() * bb.height()) || area.abs() == 0.0 {
+        if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
             problems.push(LoopProblem::ZeroArea {
                 bbox: bb,
                 origin: l.origin.clone(),

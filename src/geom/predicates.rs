@@ -34,7 +34,11 @@ pub fn intersections(s1: &Segment, s2: &Segment, tol: f64) -> Vec<Hit> {
         (Segment::Line { a, b }, Segment::Arc(arc)) => line_arc(*a, *b, arc, tol),
         (Segment::Arc(arc), Segment::Line { a, b }) => line_arc(*a, *b, arc, tol)
             .into_iter()
-            .map(|h| Hit { at: h.at, t1: h.t2, t2: h.t1 })
+            .map(|h| Hit {
+                at: h.at,
+                t1: h.t2,
+                t2: h.t1,
+            })
             .collect(),
         (Segment::Arc(x), Segment::Arc(y)) => arc_arc(x, y, tol),
     }
@@ -65,7 +69,11 @@ fn line_line(p: Point, p2: Point, q: Point, q2: Point, tol: f64) -> Vec<Hit> {
         for t in [lo, hi] {
             let at = p + r * t;
             let u = (at - q).dot(s) / (ls * ls);
-            hits.push(Hit { at, t1: t, t2: u.clamp(0.0, 1.0) });
+            hits.push(Hit {
+                at,
+                t1: t,
+                t2: u.clamp(0.0, 1.0),
+            });
         }
         if (hi - lo) * lr <= tol {
             hits.truncate(1);
@@ -133,13 +141,22 @@ fn arc_arc(x: &Arc, y: &Arc, tol: f64) -> Vec<Hit> {
             return Vec::new();
         }
         let mut hits = Vec::new();
-        for (p, on_x) in [(y.start, false), (y.end, false), (x.start, true), (x.end, true)] {
+        for (p, on_x) in [
+            (y.start, false),
+            (y.end, false),
+            (x.start, true),
+            (x.end, true),
+        ] {
             let v = p - x.center;
             let ang = v.y.atan2(v.x);
             let (fx, fy) = (arc_fraction(x, ang, t1), arc_fraction(y, ang, t2));
             if let (Some(fx), Some(fy)) = (fx, fy) {
                 let _ = on_x;
-                hits.push(Hit { at: p, t1: fx, t2: fy });
+                hits.push(Hit {
+                    at: p,
+                    t1: fx,
+                    t2: fy,
+                });
             }
         }
         return hits;
@@ -208,7 +225,11 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
                 cuts.sort_by(f64::total_cmp);
                 for win in cuts.windows(2) {
                     let (ta, tb) = (win[0], win[1]);
-                    let a = if ta == 0.0 { arc.start } else { arc.point_at(ta) };
+                    let a = if ta == 0.0 {
+                        arc.start
+                    } else {
+                        arc.point_at(ta)
+                    };
                     let b = if tb == 1.0 { arc.end } else { arc.point_at(tb) };
                     if (a.y <= p.y) != (b.y <= p.y) {
                         // The crossing point on the circle, on this monotone piece.

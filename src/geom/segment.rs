@@ -310,13 +310,20 @@ impl Segment {
     /// uniform scale; mirroring flips arcs).
     pub fn scaled(&self, s: f64) -> Segment {
         match self {
-            Segment::Line { a, b } => Segment::Line { a: *a * s, b: *b * s },
+            Segment::Line { a, b } => Segment::Line {
+                a: *a * s,
+                b: *b * s,
+            },
             Segment::Arc(arc) => Segment::Arc(Arc {
                 center: arc.center * s,
                 radius: arc.radius * s.abs(),
                 start: arc.start * s,
                 end: arc.end * s,
-                start_angle: if s < 0.0 { arc.start_angle + PI } else { arc.start_angle },
+                start_angle: if s < 0.0 {
+                    arc.start_angle + PI
+                } else {
+                    arc.start_angle
+                },
                 sweep: arc.sweep,
             }),
         }

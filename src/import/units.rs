@@ -11,10 +11,22 @@ pub struct LengthUnit {
 }
 
 impl LengthUnit {
-    pub const MM: LengthUnit = LengthUnit { name: "mm", mm: 1.0 };
-    pub const CM: LengthUnit = LengthUnit { name: "cm", mm: 10.0 };
-    pub const M: LengthUnit = LengthUnit { name: "m", mm: 1000.0 };
-    pub const INCH: LengthUnit = LengthUnit { name: "in", mm: 25.4 };
+    pub const MM: LengthUnit = LengthUnit {
+        name: "mm",
+        mm: 1.0,
+    };
+    pub const CM: LengthUnit = LengthUnit {
+        name: "cm",
+        mm: 10.0,
+    };
+    pub const M: LengthUnit = LengthUnit {
+        name: "m",
+        mm: 1000.0,
+    };
+    pub const INCH: LengthUnit = LengthUnit {
+        name: "in",
+        mm: 25.4,
+    };
 
     /// The unit of a DXF `$INSUNITS` code (DXF reference, HEADER section; `0` is unitless and
     /// gives `None`, as does an unknown code).

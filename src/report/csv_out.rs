@@ -74,7 +74,12 @@ pub fn format_number(v: f64, decimal_comma: bool) -> String {
         let s = format!("{:.11E}", v);
         let (mant, e) = s.split_once('E').unwrap_or((&s, "0"));
         let e: i32 = e.parse().unwrap_or(0);
-        format!("{}E{}{:02}", trim_zeros(mant), if e < 0 { '-' } else { '+' }, e.abs())
+        format!(
+            "{}E{}{:02}",
+            trim_zeros(mant),
+            if e < 0 { '-' } else { '+' },
+            e.abs()
+        )
     };
     let s = if s == "-0" { "0".to_string() } else { s };
     if decimal_comma {
@@ -102,7 +107,10 @@ mod tests {
         assert_eq!(format_number(1234.5, true), "1234,5");
         assert_eq!(format_number(0.1 + 0.2, false), "0.3");
         assert_eq!(format_number(std::f64::consts::PI, false), "3.14159265359");
-        assert_eq!(format_number(-2.0 / 3.0 * 1e-3, false), "-0.000666666666667");
+        assert_eq!(
+            format_number(-2.0 / 3.0 * 1e-3, false),
+            "-0.000666666666667"
+        );
         assert_eq!(format_number(1.5e20, false), "1.5E+20");
         assert_eq!(format_number(2.5e-9, false), "2.5E-09");
         assert_eq!(format_number(123456789012.34567, false), "123456789012");

@@ -57,7 +57,14 @@ const NUMERIC: &[(&str, Dim)] = &[
 ];
 
 /// Leading text columns.
-const TEXT: &[&str] = &["file", "profile", "status", "message", "layer", "drawing_units"];
+const TEXT: &[&str] = &[
+    "file",
+    "profile",
+    "status",
+    "message",
+    "layer",
+    "drawing_units",
+];
 
 /// The header for output length unit `unit`.
 pub fn header(unit: LengthUnit) -> Vec<String> {

@@ -69,9 +69,7 @@ pub fn principal(ixx: f64, iyy: f64, ixy: f64) -> (f64, f64, f64) {
 
 /// Properties of the union of `profiles` (one profile, or all of a file when merged).
 pub fn section_props(profiles: &[&Profile]) -> SectionProps {
-    let bbox = profiles
-        .iter()
-        .fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
+    let bbox = profiles.iter().fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
     // Integrate about a point near the section: full precision far from the drawing origin.
     let origin = bbox.center();
     let mut m = Moments::default();

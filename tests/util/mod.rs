@@ -86,7 +86,10 @@ pub fn poly(pts: &[(f64, f64)], bulges: &[f64]) -> Vec<Segment> {
 }
 
 pub fn rect(x0: f64, y0: f64, w: f64, h: f64) -> Vec<Segment> {
-    poly(&[(x0, y0), (x0 + w, y0), (x0 + w, y0 + h), (x0, y0 + h)], &[])
+    poly(
+        &[(x0, y0), (x0 + w, y0), (x0 + w, y0 + h), (x0, y0 + h)],
+        &[],
+    )
 }
 
 pub fn circle(cx: f64, cy: f64, r: f64) -> Vec<Segment> {
