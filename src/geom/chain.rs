@@ -160,50 +160,54 @@ pub const BROKEN_GAP_RATIO: f64 = 0.1;
 pub fn chain(pieces: &[Piece], join_gap: f64) -> Chained {
     let mut out = Chained::default();
     let q = join_gap.max(f64::MIN_POSITIVE);
-
-    // Closed pieces are loops already; drop duplicates among them.
-    let mut closed_seen: HashMap<Vec<SegKey>, ()> = HashMap::new();
-    // Open pieces become single segments; drop duplicates.
-    let mut seg_seen: HashMap<SegKey, ()> = HashMap::new();
-    let mut segs: Vec<(Segment, usize)> = Vec::new(); // (segment, piece index)
+    // Whole entities drawn twice (either way round) are dropped.
+    let mut seen: FastSet<Vec<SegKey>> = FastSet::default();
+    let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
     for (pi, piece) in pieces.iter().enumerate() {
-        let kept: Vec<Segment> = piece
-            .segments
-            .iter()
-            .filter(|s| {
-                if s.length() <= join_gap && !matches!(s, Segment::Arc(a) if a.is_full_circle()) {
-                    out.degenerate += 1;
-                    false
-                } else {
-                    true
-                }
-            })
-            .copied()
-            .collect();
+        let kept = drop_tiny(&piece.segments, join_gap, &mut out.degenerate);
         if kept.is_empty() {
             continue;
         }
+        let mut key: Vec<SegKey> = kept.iter().map(|s| seg_key(s, q)).collect();
+        key.sort_unstable();
+        key.push([(piece.closed as i64, 0); 3]);
+        if !seen.insert(key) {
+            out.duplicates += 1;
+            continue;
+        }
         if piece.closed {
-            let mut key: Vec<SegKey> = kept.iter().map(|s| seg_key(s, q)).collect();
-            key.sort_unstable();
-            if closed_seen.insert(key, ()).is_some() {
-                out.duplicates += 1;
-                continue;
-            }
             out.loops
                 .push(close_up(kept, piece.layer.clone(), piece.origin.clone()));
         } else {
-            for s in kept {
-                if seg_seen.insert(seg_key(&s, q), ()).is_some() {
-                    out.duplicates += 1;
-                } else {
-                    segs.push((s, pi));
-                }
-            }
+            open.push((kept, pi));
         }
     }
-    link(&segs, pieces, join_gap, &mut out);
+    link(&open, pieces, join_gap, &mut out);
     out
+}
+
+/// The segments without those shorter than `join_gap` (full circles excepted); the segment
+/// after a dropped one starts where the one before it ends, so the run stays connected.
+fn drop_tiny(segments: &[Segment], join_gap: f64, dropped: &mut usize) -> Vec<Segment> {
+    let mut kept: Vec<Segment> = Vec::with_capacity(segments.len());
+    let mut relink = false;
+    for s in segments {
+        let full = matches!(s, Segment::Arc(a) if a.is_full_circle());
+        if !full && (s.length() <= join_gap || !s.is_finite()) {
+            *dropped += 1;
+            relink = true;
+            continue;
+        }
+        match kept.last() {
+            Some(prev) if relink => {
+                let start = prev.end();
+                kept.push(snapped(*s, start, s.end()));
+            }
+            _ => kept.push(*s),
+        }
+        relink = false;
+    }
+    kept
 }
 
 /// Quantised, direction-free identity of a segment, for duplicate detection.
@@ -215,6 +219,38 @@ fn seg_key(s: &Segment, q: f64) -> SegKey {
     let (a, b) = if a <= b { (a, b) } else { (b, a) };
     [a, b, cell(s.midpoint())]
 }
+
+/// A small, fast hasher for integer keys (the multiply-rotate scheme of Firefox's and
+/// rustc's FxHash; common practice). Keys here come from geometry, not from an adversary
+/// that could aim for collisions, and a collision only costs time.
+#[derive(Default, Clone, Copy)]
+pub(crate) struct FastHasher(u64);
+
+impl std::hash::Hasher for FastHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for chunk in bytes.chunks(8) {
+            let mut buf = [0u8; 8];
+            buf[..chunk.len()].copy_from_slice(chunk);
+            self.write_u64(u64::from_le_bytes(buf));
+        }
+    }
+    fn write_u64(&mut self, v: u64) {
+        self.0 = (self.0.rotate_left(5) ^ v).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
+    }
+    fn write_i64(&mut self, v: i64) {
+        self.write_u64(v as u64);
+    }
+    fn write_usize(&mut self, v: usize) {
+        self.write_u64(v as u64);
+    }
+}
+
+pub(crate) type FastBuild = std::hash::BuildHasherDefault<FastHasher>;
+pub(crate) type FastMap<K, V> = HashMap<K, V, FastBuild>;
+type FastSet<K> = std::collections::HashSet<K, FastBuild>;
 
 /// Make a loop from segments that already form a closed run, bridging tiny gaps.
 fn close_up(mut segments: Vec<Segment>, layer: String, origin: Origin) -> Loop {
@@ -259,7 +295,7 @@ fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
 struct Nodes {
     cell: f64,
     join_gap: f64,
-    grid: HashMap<(i64, i64), Vec<u32>>,
+    grid: FastMap<(i64, i64), Vec<u32>>,
     pos: Vec<Point>,
 }
 
@@ -292,23 +328,23 @@ impl Nodes {
     }
 }
 
-fn link(segs: &[(Segment, usize)], pieces: &[Piece], join_gap: f64, out: &mut Chained) {
-    if segs.is_empty() {
+fn link(runs: &[(Vec<Segment>, usize)], pieces: &[Piece], join_gap: f64, out: &mut Chained) {
+    if runs.is_empty() {
         return;
     }
     let mut nodes = Nodes {
         cell: join_gap.max(f64::MIN_POSITIVE),
         join_gap,
-        grid: HashMap::with_capacity(segs.len() * 2),
-        pos: Vec::with_capacity(segs.len() * 2),
+        grid: FastMap::with_capacity_and_hasher(runs.len() * 2, FastBuild::default()),
+        pos: Vec::with_capacity(runs.len() * 2),
     };
-    // ends[i] = (node at start, node at end)
-    let ends: Vec<(u32, u32)> = segs
+    // ends[i] = (node at the run's start, node at its end)
+    let ends: Vec<(u32, u32)> = runs
         .iter()
-        .map(|(s, _)| (nodes.id(s.start()), nodes.id(s.end())))
+        .map(|(r, _)| (nodes.id(r[0].start()), nodes.id(r[r.len() - 1].end())))
         .collect();
     let n_nodes = nodes.pos.len();
-    // Adjacency in compressed form: for each node, the (segment, end) pairs touching it.
+    // Adjacency in compressed form: for each node, the runs touching it.
     let mut degree = vec![0u32; n_nodes + 1];
     for &(a, b) in &ends {
         degree[a as usize] += 1;
@@ -319,72 +355,77 @@ fn link(segs: &[(Segment, usize)], pieces: &[Piece], join_gap: f64, out: &mut Ch
         offset[i + 1] = offset[i] + degree[i] as usize;
     }
     let mut fill = offset.clone();
-    let mut adj = vec![(0u32, false); offset[n_nodes]];
+    let mut adj = vec![0u32; offset[n_nodes]];
     for (i, &(a, b)) in ends.iter().enumerate() {
-        adj[fill[a as usize]] = (i as u32, false);
+        adj[fill[a as usize]] = i as u32;
         fill[a as usize] += 1;
-        adj[fill[b as usize]] = (i as u32, true);
+        adj[fill[b as usize]] = i as u32;
         fill[b as usize] += 1;
     }
     let touching = |n: u32| &adj[offset[n as usize]..offset[n as usize + 1]];
-    let mut used = vec![false; segs.len()];
+    let bbox_of = |r: &[Segment]| r.iter().fold(BBox::EMPTY, |b, s| b.union(&s.bbox()));
+    let mut used = vec![false; runs.len()];
 
-    // Branches: every component that holds a node of degree three or more is reported once.
+    // Branches: every connected group holding a node of degree three or more is reported once.
     for n in 0..n_nodes as u32 {
-        if degree[n as usize] >= 3 && !touching(n).iter().all(|&(s, _)| used[s as usize]) {
+        if degree[n as usize] >= 3 && !touching(n).iter().all(|&r| used[r as usize]) {
             let mut bbox = BBox::EMPTY;
             let mut stack = vec![n];
-            let mut first_seg = None;
+            let mut first_run = None;
             while let Some(m) = stack.pop() {
-                for &(s, _) in touching(m) {
-                    if !used[s as usize] {
-                        used[s as usize] = true;
-                        first_seg.get_or_insert(s);
-                        bbox = bbox.union(&segs[s as usize].0.bbox());
-                        let (a, b) = ends[s as usize];
+                for &r in touching(m) {
+                    if !used[r as usize] {
+                        used[r as usize] = true;
+                        first_run.get_or_insert(r);
+                        bbox = bbox.union(&bbox_of(&runs[r as usize].0));
+                        let (a, b) = ends[r as usize];
                         stack.push(if a == m { b } else { a });
                     }
                 }
             }
-            let s0 = first_seg.unwrap_or(0) as usize;
+            let r0 = first_run.unwrap_or(0) as usize;
             out.problems.push(LoopProblem::Branch {
                 at: nodes.pos[n as usize],
                 ends: degree[n as usize] as usize,
                 bbox,
-                origin: pieces[segs[s0].1].origin.clone(),
+                origin: pieces[runs[r0].1].origin.clone(),
             });
         }
     }
 
-    // Walk a run from node `from` along segment `s`; returns oriented segments and the node
-    // where the run stops (back at its start, at a free end, or at a used segment).
-    let walk = |start_node: u32, s0: u32, used: &mut Vec<bool>| -> (Vec<Segment>, u32, bool) {
-        let mut run = Vec::new();
+    // Walk from node `start_node` along run `r0`, appending runs oriented head to tail with
+    // their ends snapped onto the nodes; stops back at the start (a loop), at a free end, or
+    // at a node that is not of degree two.
+    let walk = |start_node: u32, r0: u32, used: &mut Vec<bool>| -> (Vec<Segment>, bool) {
+        let mut out_segs: Vec<Segment> = Vec::new();
         let mut node = start_node;
-        let mut s = s0;
+        let mut r = r0;
         loop {
-            used[s as usize] = true;
-            let (a, b) = ends[s as usize];
-            let (seg, next) = if a == node {
-                (segs[s as usize].0, b)
+            used[r as usize] = true;
+            let (a, b) = ends[r as usize];
+            let run = &runs[r as usize].0;
+            let first = out_segs.len();
+            let next = if a == node {
+                out_segs.extend_from_slice(run);
+                b
             } else {
-                (segs[s as usize].0.reversed(), a)
+                out_segs.extend(run.iter().rev().map(Segment::reversed));
+                a
             };
-            run.push(snapped(
-                seg,
-                nodes.pos[node as usize],
-                nodes.pos[next as usize],
-            ));
+            let (from, to) = (nodes.pos[node as usize], nodes.pos[next as usize]);
+            out_segs[first] = snapped(out_segs[first], from, out_segs[first].end());
+            let last = out_segs.len() - 1;
+            out_segs[last] = snapped(out_segs[last], out_segs[last].start(), to);
             node = next;
             if node == start_node {
-                return (run, node, true);
+                return (out_segs, true);
             }
             if degree[node as usize] != 2 {
-                return (run, node, false);
+                return (out_segs, false);
             }
-            match touching(node).iter().find(|&&(t, _)| !used[t as usize]) {
-                Some(&(t, _)) => s = t,
-                None => return (run, node, false),
+            match touching(node).iter().find(|&&t| !used[t as usize]) {
+                Some(&t) => r = t,
+                None => return (out_segs, false),
             }
         }
     };
@@ -393,23 +434,23 @@ fn link(segs: &[(Segment, usize)], pieces: &[Piece], join_gap: f64, out: &mut Ch
     let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
     for n in 0..n_nodes as u32 {
         if degree[n as usize] == 1 {
-            let (s, _) = touching(n)[0];
-            if !used[s as usize] {
-                let (run, _, _) = walk(n, s, &mut used);
-                open.push((run, segs[s as usize].1));
+            let r = touching(n)[0];
+            if !used[r as usize] {
+                let (run, _) = walk(n, r, &mut used);
+                open.push((run, runs[r as usize].1));
             }
         }
     }
     // What is left runs through nodes of degree two only: closed loops.
-    for s in 0..segs.len() {
-        if !used[s] {
-            let (run, _, closed) = walk(ends[s].0, s as u32, &mut used);
-            let piece = &pieces[segs[s].1];
+    for r in 0..runs.len() {
+        if !used[r] {
+            let (run, closed) = walk(ends[r].0, r as u32, &mut used);
+            let piece = &pieces[runs[r].1];
             if closed {
                 out.loops
                     .push(close_up(run, piece.layer.clone(), piece.origin.clone()));
             } else {
-                open.push((run, segs[s].1));
+                open.push((run, runs[r].1));
             }
         }
     }

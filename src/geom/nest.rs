@@ -10,7 +10,7 @@
 
 use std::collections::HashMap;
 
-use super::chain::{Loop, LoopProblem};
+use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::signed_area;
 use super::predicates::{intersections, winding_number};
 use super::segment::{BBox, Point};
@@ -261,7 +261,7 @@ struct BoxGrid {
     origin: Point,
     cell: f64,
     n: i64,
-    cells: HashMap<(i64, i64), Vec<u32>>,
+    cells: FastMap<(i64, i64), Vec<u32>>,
 }
 
 impl BoxGrid {
@@ -273,7 +273,7 @@ impl BoxGrid {
             origin: all.min,
             cell: size / n as f64,
             n,
-            cells: HashMap::new(),
+            cells: FastMap::default(),
         };
         for (i, b) in boxes.iter().enumerate() {
             let (x0, y0) = g.index(b.min);
