@@ -244,3 +244,30 @@ fn thousands_of_profiles_in_one_file() {
     assert!(first.bbox.min.x == 0.0 && first.bbox.min.y == 0.0);
     assert!(second.bbox.min.x == 0.0 && second.bbox.min.y == 20.0);
 }
+
+#[test]
+fn fillets_smaller_than_the_gap_are_not_self_intersections() {
+    // A 1.45 × 2.33 rectangular hole with r = 0.0015 fillets inside a square, far from the
+    // origin so that the default gap (0.05 mm there) exceeds the fillets' chords.
+    let (x0, y0, w, h, r) = (2865.0, 231.0, 1.45, 2.33, 0.0015);
+    let t = (std::f64::consts::PI / 8.0).tan();
+    let hole = poly(
+        &[
+            (x0 + r, y0),
+            (x0 + w - r, y0),
+            (x0 + w, y0 + r),
+            (x0 + w, y0 + h - r),
+            (x0 + w - r, y0 + h),
+            (x0 + r, y0 + h),
+            (x0, y0 + h - r),
+            (x0, y0 + r),
+        ],
+        &[0.0, t, 0.0, t, 0.0, t, 0.0, t],
+    );
+    let mut pieces = vec![closed(rect(x0 - 5.0, y0 - 5.0, 10.0, 12.0)), closed(hole)];
+    pieces.push(closed(rect(0.0, 0.0, 1.0, 1.0))); // widens the drawing: a larger default gap
+    let out = measure(pieces);
+    assert!(out.iter().all(|o| o.result.is_ok()), "{out:#?}");
+    let s = out[1].result.as_ref().expect("ok");
+    assert_eq!(s.n_holes, 1);
+}

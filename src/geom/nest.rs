@@ -33,7 +33,8 @@ impl Profile {
 
 /// Remove loops that cross themselves or each other, reporting each as a problem.
 ///
-/// Ends shared by neighbouring segments of one loop are not crossings; two different loops
+/// Points of one loop less than four tolerances apart along the loop (a shared vertex, a tiny
+/// fillet) are not crossings; two different loops
 /// that only touch (at a segment end of either) are allowed, since the regions they bound
 /// still do not overlap.
 pub fn drop_crossing_loops(
@@ -57,6 +58,20 @@ pub fn drop_crossing_loops(
         }
     }
     items.sort_by(|a, b| a.bbox.min.x.total_cmp(&b.bbox.min.x));
+    // Distance along each loop to the start of each segment, and the loop's length last.
+    let cum: Vec<Vec<f64>> = loops
+        .iter()
+        .map(|l| {
+            let mut c = Vec::with_capacity(l.segments.len() + 1);
+            let mut acc = 0.0;
+            c.push(acc);
+            for s in &l.segments {
+                acc += s.length();
+                c.push(acc);
+            }
+            c
+        })
+        .collect();
     let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()]; // (where, self?)
     let mut active: Vec<usize> = Vec::new();
     for i in 0..items.len() {
@@ -73,26 +88,17 @@ pub fn drop_crossing_loops(
                 if it.sg == jt.sg {
                     continue;
                 }
-                let n = l1.segments.len() as u32;
-                let (a, b) = (it.sg.min(jt.sg), it.sg.max(jt.sg));
-                let next = b == a + 1; // b starts where a ends
-                let wrap = a == 0 && b == n - 1; // a starts where b ends
+                // Points of one loop that are close along the loop (a shared vertex, a
+                // fillet shorter than the tolerance) are neighbours, not a crossing.
+                let c = &cum[it.lp as usize];
+                let total = c[c.len() - 1];
                 for h in intersections(s1, s2, tol) {
-                    // t values are along s1 (item i) and s2 (item j).
-                    let (ta, tb) = if it.sg == a {
-                        (h.t1, h.t2)
-                    } else {
-                        (h.t2, h.t1)
+                    let along = |sg: u32, t: f64| {
+                        let k = sg as usize;
+                        c[k] + t * (c[k + 1] - c[k])
                     };
-                    let shared = (next && ta >= 1.0 - 1e-9 && tb <= 1e-9)
-                        || (wrap && ta <= 1e-9 && tb >= 1.0 - 1e-9)
-                        || (next
-                            && wrap
-                            && ((ta <= 1e-9 && tb >= 1.0 - 1e-9)
-                                || (ta >= 1.0 - 1e-9 && tb <= 1e-9)));
-                    let near_shared = (next && h.at.dist(s_end(l1, a)) <= tol)
-                        || (wrap && h.at.dist(s_end(l1, b)) <= tol);
-                    if !(shared || near_shared) {
+                    let d = (along(it.sg, h.t1) - along(jt.sg, h.t2)).abs();
+                    if d.min(total - d) > 4.0 * tol {
                         bad[it.lp as usize].get_or_insert((h.at, true));
                     }
                 }
@@ -127,10 +133,6 @@ pub fn drop_crossing_loops(
         }
     }
     kept
-}
-
-fn s_end(l: &Loop, i: u32) -> Point {
-    l.segments[i as usize].end()
 }
 
 /// Whether two segments only touch at `at` (tangent curves) rather than cross: the points a
