@@ -14,6 +14,7 @@
 //! is exactly closed; Green's theorem then gives the same result about any origin.
 
 use std::collections::HashMap;
+use std::hash::{Hash, Hasher};
 
 use super::segment::{BBox, Point, Segment};
 use crate::import::{Origin, Piece};
@@ -160,21 +161,39 @@ pub const BROKEN_GAP_RATIO: f64 = 0.1;
 pub fn chain(pieces: &[Piece], join_gap: f64) -> Chained {
     let mut out = Chained::default();
     let q = join_gap.max(f64::MIN_POSITIVE);
-    // Whole entities drawn twice (either way round) are dropped.
-    let mut seen: FastSet<Vec<SegKey>> = FastSet::default();
+    // Whole entities drawn twice (either way round) are dropped. A direction-free
+    // fingerprint (count and wrapping sum of hashed segment keys) finds candidates; the
+    // sorted keys confirm them, so a fingerprint collision never drops a loop.
+    let mut seen: FastMap<(usize, u64, bool), Vec<usize>> = FastMap::default();
     let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
+    let sorted_keys = |segs: &[Segment]| {
+        let mut k: Vec<SegKey> = segs.iter().map(|s| seg_key(s, q)).collect();
+        k.sort_unstable();
+        k
+    };
     for (pi, piece) in pieces.iter().enumerate() {
         let kept = drop_tiny(&piece.segments, join_gap, &mut out.degenerate);
         if kept.is_empty() {
             continue;
         }
-        let mut key: Vec<SegKey> = kept.iter().map(|s| seg_key(s, q)).collect();
-        key.sort_unstable();
-        key.push([(piece.closed as i64, 0); 3]);
-        if !seen.insert(key) {
-            out.duplicates += 1;
-            continue;
+        let sum = kept.iter().fold(0u64, |acc, s| {
+            let mut h = FastHasher::default();
+            seg_key(s, q).hash(&mut h);
+            acc.wrapping_add(h.finish())
+        });
+        let same = seen.entry((kept.len(), sum, piece.closed)).or_default();
+        if !same.is_empty() {
+            let mine = sorted_keys(&kept);
+            let twin = same.iter().any(|&other| {
+                let theirs = drop_tiny(&pieces[other].segments, join_gap, &mut 0);
+                sorted_keys(&theirs) == mine
+            });
+            if twin {
+                out.duplicates += 1;
+                continue;
+            }
         }
+        same.push(pi);
         if piece.closed {
             out.loops
                 .push(close_up(kept, piece.layer.clone(), piece.origin.clone()));
@@ -250,7 +269,6 @@ impl std::hash::Hasher for FastHasher {
 
 pub(crate) type FastBuild = std::hash::BuildHasherDefault<FastHasher>;
 pub(crate) type FastMap<K, V> = HashMap<K, V, FastBuild>;
-type FastSet<K> = std::collections::HashSet<K, FastBuild>;
 
 /// Make a loop from segments that already form a closed run, bridging tiny gaps.
 fn close_up(mut segments: Vec<Segment>, layer: String, origin: Origin) -> Loop {

@@ -88,6 +88,15 @@ pub fn drop_crossing_loops(
                 if it.sg == jt.sg {
                     continue;
                 }
+                if consecutive_lines_only_share_their_vertex(
+                    l1.segments.len(),
+                    it.sg,
+                    jt.sg,
+                    s1,
+                    s2,
+                ) {
+                    continue;
+                }
                 // Points of one loop that are close along the loop (a shared vertex, a
                 // fillet shorter than the tolerance) are neighbours, not a crossing.
                 let c = &cum[it.lp as usize];
@@ -133,6 +142,33 @@ pub fn drop_crossing_loops(
         }
     }
     kept
+}
+
+/// Fast path: two straight neighbours in a loop of three or more segments meet only at their
+/// shared vertex unless the second turns back along the first.
+fn consecutive_lines_only_share_their_vertex(
+    n: usize,
+    i: u32,
+    j: u32,
+    s1: &super::Segment,
+    s2: &super::Segment,
+) -> bool {
+    use super::Segment;
+    let n = n as u32;
+    if n < 3 {
+        return false;
+    }
+    let (Segment::Line { a, b }, Segment::Line { a: c, b: d }) = (s1, s2) else {
+        return false;
+    };
+    let (u, v) = if j == (i + 1) % n {
+        (*b - *a, *d - *c)
+    } else if i == (j + 1) % n {
+        (*d - *c, *b - *a)
+    } else {
+        return false;
+    };
+    u.cross(v).abs() > 1e-9 * u.norm() * v.norm() || u.dot(v) > 0.0
 }
 
 /// Whether two segments only touch at `at` (tangent curves) rather than cross: the points a

@@ -209,19 +209,28 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
         match s {
             Segment::Line { a, b } => w += cross_line(*a, *b),
             Segment::Arc(arc) => {
+                // Only an arc that spans the ray's height and reaches right of `p` can cross.
+                let r = arc.radius;
+                if p.y < arc.center.y - r || p.y > arc.center.y + r || p.x > arc.center.x + r {
+                    continue;
+                }
                 // Split at the angles π/2 and 3π/2 inside the sweep; each piece is y-monotone.
-                let mut cuts = vec![0.0];
+                let mut cuts = [0.0f64; 6];
+                let mut n_cuts = 1;
                 let sweep = arc.sweep;
                 for k in [PI / 2.0, 3.0 * PI / 2.0] {
                     let mut rel = ((k - arc.start_angle) * sweep.signum()).rem_euclid(TAU);
-                    while rel < sweep.abs() {
+                    while rel < sweep.abs() && n_cuts < 5 {
                         if rel > 0.0 {
-                            cuts.push(rel / sweep.abs());
+                            cuts[n_cuts] = rel / sweep.abs();
+                            n_cuts += 1;
                         }
                         rel += TAU;
                     }
                 }
-                cuts.push(1.0);
+                cuts[n_cuts] = 1.0;
+                n_cuts += 1;
+                let cuts = &mut cuts[..n_cuts];
                 cuts.sort_by(f64::total_cmp);
                 for win in cuts.windows(2) {
                     let (ta, tb) = (win[0], win[1]);
@@ -234,7 +243,7 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
                     if (a.y <= p.y) != (b.y <= p.y) {
                         // The crossing point on the circle, on this monotone piece.
                         let dy = p.y - arc.center.y;
-                        let dx = (arc.radius * arc.radius - dy * dy).max(0.0).sqrt();
+                        let dx = (r * r - dy * dy).max(0.0).sqrt();
                         let mid = arc.point_at((ta + tb) / 2.0);
                         let x = if mid.x >= arc.center.x {
                             arc.center.x + dx

@@ -21,8 +21,10 @@ impl Point {
     pub fn cross(self, o: Point) -> f64 {
         self.x * o.y - self.y * o.x
     }
+    /// Length of the vector. Plain √(x² + y²): drawing coordinates are far from overflow,
+    /// and `hypot`'s guard costs several times more in the hot paths.
     pub fn norm(self) -> f64 {
-        self.x.hypot(self.y)
+        (self.x * self.x + self.y * self.y).sqrt()
     }
     pub fn dist(self, o: Point) -> f64 {
         (self - o).norm()
