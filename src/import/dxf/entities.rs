@@ -1,0 +1,785 @@
+//! Entity readers of the ENTITIES section, and the object coordinate system.
+//!
+//! LINE, ARC, CIRCLE, LWPOLYLINE and 2-D POLYLINE become [`Piece`]s; every other entity is
+//! passed over pair by pair (values unparsed) and counted by type. An entity is decided on in
+//! this order, and counted under the first reason that leaves it out:
+//! 1. its type (not read, or a 3-D polyline or mesh);
+//! 2. paper space (group 67 = 1);
+//! 3. its layer (off, frozen, or not selected by the layer globs);
+//! 4. its geometry (non-finite numbers, out of the drawing plane, zero length or radius).
+//!
+//! ARC, CIRCLE, LWPOLYLINE and POLYLINE coordinates are in the entity's object coordinate
+//! system (OCS), given by its extrusion direction N (groups 210/220/230, default 0,0,1); LINE is
+//! in world coordinates. See [`Plane`] for how OCS coordinates reach the drawing plane.
+
+use std::borrow::Cow;
+
+use super::codes::Pair;
+use super::{decode_text, Reader, Verdict};
+use crate::geom::{Arc, Point, Segment};
+use crate::import::{ImportError, Location, Origin, Piece};
+
+/// Skip-reason texts used in more than one place.
+pub(crate) mod reason {
+    pub const PAPER_SPACE: &str = "paper space";
+    pub const POLYLINE_3D: &str = "3-D POLYLINE";
+}
+
+/// A polyline vertex as read, in the OCS.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Vertex {
+    x: f64,
+    y: f64,
+    bulge: f64,
+    has_y: bool,
+}
+
+/// Groups shared by all entities.
+struct Common<'a> {
+    layer: &'a [u8],
+    handle: Option<&'a [u8]>,
+    paper: bool,
+    /// Extrusion direction N (groups 210/220/230).
+    normal: [f64; 3],
+    at: Location,
+}
+
+impl<'a> Common<'a> {
+    fn new(start: &Pair<'a>) -> Self {
+        Common {
+            layer: b"0",
+            handle: None,
+            paper: false,
+            normal: [0.0, 0.0, 1.0],
+            at: start.location(),
+        }
+    }
+
+    /// Take a pair if it is one of the shared groups. `ocs` entities also read their
+    /// extrusion direction; LINE ignores its own.
+    #[inline(always)]
+    fn take(&mut self, p: &Pair<'a>, ocs: bool) -> Result<(), ImportError> {
+        match p.code {
+            8 => self.layer = p.text(),
+            5 => self.handle = Some(p.text()),
+            67 => self.paper = p.int()? == 1,
+            210 if ocs => self.normal[0] = p.real()?,
+            220 if ocs => self.normal[1] = p.real()?,
+            230 if ocs => self.normal[2] = p.real()?,
+            _ => {}
+        }
+        Ok(())
+    }
+}
+
+/// How an entity's OCS maps onto the drawing (world XY) plane.
+///
+/// The OCS axes follow the Arbitrary Axis Algorithm (DXF reference, "Object Coordinate
+/// Systems (OCS)", "Arbitrary Axis Algorithm"; from memory) in [`arbitrary_axes`]. Only
+/// entities whose N is parallel to world Z lie in the drawing plane; for those the map is the
+/// identity (N = +Z) or the mirror x → −x (N = −Z, OCS x axis = (−1, 0, 0), y axis = (0, 1, 0)).
+/// A normal within 1e-6 of ±Z (float noise from converters) is used through the full axes;
+/// a circle in such a plane projects to an ellipse whose axes differ by less than
+/// 1 − cos(1e-6) ≈ 5e-13 relative, below any tolerance downstream.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum Plane {
+    Identity,
+    MirrorX,
+    /// Nearly ±Z: world x,y of the OCS axes and of N.
+    Tilted {
+        ax: Point,
+        ay: Point,
+        n: Point,
+        flips: bool,
+    },
+}
+
+/// Largest sine of the angle between N and world Z still taken as the drawing plane.
+const PLANE_TILT: f64 = 1e-6;
+
+/// Why an extrusion direction cannot be used.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum PlaneError {
+    /// Zero or non-finite N.
+    Invalid,
+    /// N not parallel to world Z.
+    OutOfPlane,
+}
+
+impl Plane {
+    pub(crate) fn from_normal(n: [f64; 3]) -> Result<Plane, PlaneError> {
+        let [nx, ny, nz] = n;
+        if !(nx.is_finite() && ny.is_finite() && nz.is_finite()) {
+            return Err(PlaneError::Invalid);
+        }
+        if nx == 0.0 && ny == 0.0 {
+            return match nz {
+                z if z > 0.0 => Ok(Plane::Identity),
+                z if z < 0.0 => Ok(Plane::MirrorX),
+                _ => Err(PlaneError::Invalid),
+            };
+        }
+        let Some((ax, ay, n)) = arbitrary_axes(n) else {
+            return Err(PlaneError::Invalid);
+        };
+        if n[0].hypot(n[1]) > PLANE_TILT {
+            return Err(PlaneError::OutOfPlane);
+        }
+        Ok(Plane::Tilted {
+            ax: Point::new(ax[0], ax[1]),
+            ay: Point::new(ay[0], ay[1]),
+            n: Point::new(n[0], n[1]),
+            flips: n[2] < 0.0,
+        })
+    }
+
+    /// World x,y of the OCS point (x, y, z).
+    #[inline]
+    pub(crate) fn point(&self, x: f64, y: f64, z: f64) -> Point {
+        match *self {
+            Plane::Identity => Point::new(x, y),
+            Plane::MirrorX => Point::new(-x, y),
+            Plane::Tilted { ax, ay, n, .. } => ax * x + ay * y + n * z,
+        }
+    }
+
+    /// World angle (radians) of the OCS direction at `deg` degrees.
+    pub(crate) fn angle(&self, deg: f64) -> f64 {
+        match *self {
+            Plane::Identity => deg.rem_euclid(360.0).to_radians(),
+            Plane::MirrorX => (180.0 - deg).rem_euclid(360.0).to_radians(),
+            Plane::Tilted { ax, ay, .. } => {
+                let (s, c) = deg.to_radians().sin_cos();
+                let d = ax * c + ay * s;
+                d.y.atan2(d.x)
+            }
+        }
+    }
+
+    /// Whether counter-clockwise in the OCS is clockwise in the world (N points down).
+    pub(crate) fn flips(&self) -> bool {
+        match *self {
+            Plane::Identity => false,
+            Plane::MirrorX => true,
+            Plane::Tilted { flips, .. } => flips,
+        }
+    }
+}
+
+/// The OCS axes (Ax, Ay) and the normalised N for an extrusion direction N, by the Arbitrary
+/// Axis Algorithm (DXF reference, "Object Coordinate Systems (OCS)", "Arbitrary Axis
+/// Algorithm"; from memory):
+///
+///   if |Nx| < 1/64 and |Ny| < 1/64: Ax = Wy × N, else Ax = Wz × N;  Ax normalised;
+///   Ay = N × Ax, normalised.
+///
+/// `None` for a zero or non-finite N.
+pub(crate) fn arbitrary_axes(n: [f64; 3]) -> Option<([f64; 3], [f64; 3], [f64; 3])> {
+    let len = (n[0] * n[0] + n[1] * n[1] + n[2] * n[2]).sqrt();
+    if !(len.is_finite() && len > 0.0) {
+        return None;
+    }
+    let n = [n[0] / len, n[1] / len, n[2] / len];
+    const LIMIT: f64 = 1.0 / 64.0;
+    let ax = if n[0].abs() < LIMIT && n[1].abs() < LIMIT {
+        cross([0.0, 1.0, 0.0], n)
+    } else {
+        cross([0.0, 0.0, 1.0], n)
+    };
+    let ax = unit(ax)?;
+    let ay = unit(cross(n, ax))?;
+    Some((ax, ay, n))
+}
+
+fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
+    [
+        a[1] * b[2] - a[2] * b[1],
+        a[2] * b[0] - a[0] * b[2],
+        a[0] * b[1] - a[1] * b[0],
+    ]
+}
+
+fn unit(a: [f64; 3]) -> Option<[f64; 3]> {
+    let len = (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt();
+    (len.is_finite() && len > 0.0).then(|| [a[0] / len, a[1] / len, a[2] / len])
+}
+
+/// The reason text for an entity type that is not read.
+fn type_reason(ty: &[u8]) -> Cow<'_, str> {
+    match ty {
+        b"INSERT" => "INSERT (blocks not read yet)".into(),
+        b"SPLINE" => "SPLINE (not read yet)".into(),
+        b"ELLIPSE" => "ELLIPSE (not read yet)".into(),
+        _ => match std::str::from_utf8(ty) {
+            Ok(s) => s.into(),
+            Err(_) => decode_text(ty).into(),
+        },
+    }
+}
+
+/// Sweep of an ARC in degrees from its start and end angles: counter-clockwise from start to
+/// end, in (0, 360] (DXF reference, ARC: angles in degrees; an end at or before the start
+/// wraps once around).
+pub(crate) fn arc_sweep_deg(start: f64, end: f64) -> f64 {
+    let sweep = (end - start).rem_euclid(360.0);
+    if sweep == 0.0 {
+        360.0
+    } else {
+        sweep
+    }
+}
+
+impl<'a> Reader<'a, '_> {
+    /// Move to the next pair of the current entity (in `self.pairs.cur`); `false` at the
+    /// next `0/…` pair, which is left for the next read.
+    #[inline(always)]
+    fn field(&mut self) -> Result<bool, ImportError> {
+        self.advance_in("ENTITIES")?;
+        if self.pairs.cur.code == 0 {
+            self.pairs.replay();
+            Ok(false)
+        } else {
+            Ok(true)
+        }
+    }
+
+    /// Pass over the rest of an entity without parsing values.
+    fn skip_fields(&mut self) -> Result<(), ImportError> {
+        while self.field()? {}
+        Ok(())
+    }
+
+    /// ENTITIES: one entity per `0/TYPE` pair until `0/ENDSEC`.
+    pub(super) fn read_entities(&mut self) -> Result<(), ImportError> {
+        loop {
+            let p = self.next_in("ENTITIES")?;
+            if p.code != 0 {
+                continue; // pairs between the section name and the first entity
+            }
+            if self.section_end(&p, "ENTITIES") {
+                return Ok(());
+            }
+            match p.text() {
+                // 3DLINE: the Release 10 name of a LINE with z coordinates.
+                b"LINE" => self.read_line(&p, "LINE")?,
+                b"3DLINE" => self.read_line(&p, "3DLINE")?,
+                b"ARC" => self.read_arc(&p, false)?,
+                b"CIRCLE" => self.read_arc(&p, true)?,
+                b"LWPOLYLINE" => self.read_lwpolyline(&p)?,
+                b"POLYLINE" => self.read_polyline(&p)?,
+                b"INSERT" => {
+                    self.skip_fields()?;
+                    self.skip_attributes()?;
+                    self.skip(&type_reason(b"INSERT"));
+                }
+                ty => {
+                    self.skip_fields()?;
+                    self.skip(&type_reason(ty));
+                }
+            }
+        }
+    }
+
+    /// The ATTRIB entities after an INSERT, and their SEQEND: part of the INSERT.
+    fn skip_attributes(&mut self) -> Result<(), ImportError> {
+        loop {
+            let p = self.next_in("ENTITIES")?;
+            if p.is(0, b"ATTRIB") {
+                self.skip_fields()?;
+            } else if p.is(0, b"SEQEND") {
+                return self.skip_fields();
+            } else {
+                self.pairs.push_back(p);
+                return Ok(());
+            }
+        }
+    }
+
+    /// Paper space and layer checks: the layer name to use, or `None` when counted as skipped.
+    fn admit(&mut self, c: &Common<'a>) -> Option<String> {
+        if c.paper {
+            self.skip(reason::PAPER_SPACE);
+            return None;
+        }
+        let reason = match self.layers.verdict(c.layer, self.opts) {
+            Verdict::Keep(name) => return Some(name.clone()),
+            Verdict::Skip(reason) => reason,
+        };
+        // `reason` borrows `self.layers`; count it in the disjoint `self.skips`.
+        match self.skips.get_mut(reason.as_str()) {
+            Some(n) => *n += 1,
+            None => {
+                self.skips.insert(reason.clone(), 1);
+            }
+        }
+        None
+    }
+
+    /// Count an entity left out for a non-finite number, with one note for the file.
+    fn skip_non_finite(&mut self, entity: &'static str, at: Location) {
+        self.skip(&format!("non-finite value: {entity}"));
+        self.note_once("non-finite", || {
+            format!("{entity} at {at} has a non-finite coordinate (NaN or infinity) and was left out (further cases only counted)")
+        });
+    }
+
+    /// The map of an OCS entity onto the drawing plane, or `None` when counted as skipped.
+    fn plane(&mut self, c: &Common<'a>, entity: &'static str) -> Option<Plane> {
+        match Plane::from_normal(c.normal) {
+            Ok(plane) => Some(plane),
+            Err(PlaneError::OutOfPlane) => {
+                self.skip(&format!("not in the drawing plane: {entity}"));
+                None
+            }
+            Err(PlaneError::Invalid) => {
+                self.skip(&format!("invalid extrusion direction: {entity}"));
+                let at = c.at;
+                self.note_once("bad normal", || {
+                    format!("{entity} at {at} has a zero or non-finite extrusion direction (groups 210/220/230) and was left out (further cases only counted)")
+                });
+                None
+            }
+        }
+    }
+
+    fn piece(
+        &mut self,
+        c: &Common<'a>,
+        entity: &'static str,
+        layer: String,
+        segments: Vec<Segment>,
+        closed: bool,
+    ) {
+        let piece = Piece {
+            segments,
+            closed,
+            layer,
+            origin: Origin {
+                entity: entity.to_owned(),
+                location: c.at,
+                handle: c.handle.map(decode_text),
+            },
+        };
+        self.push_piece(piece);
+    }
+
+    /// LINE (and 3DLINE): start 10/20, end 11/21, in world coordinates; z (30/31) is dropped.
+    fn read_line(&mut self, start: &Pair<'a>, entity: &'static str) -> Result<(), ImportError> {
+        let mut c = Common::new(start);
+        let (mut x1, mut y1, mut x2, mut y2) = (0.0, 0.0, 0.0, 0.0);
+        while self.field()? {
+            let p = &self.pairs.cur;
+            match p.code {
+                10 => x1 = p.real()?,
+                20 => y1 = p.real()?,
+                11 => x2 = p.real()?,
+                21 => y2 = p.real()?,
+                _ => c.take(p, false)?,
+            }
+        }
+        let Some(layer) = self.admit(&c) else {
+            return Ok(());
+        };
+        let (a, b) = (Point::new(x1, y1), Point::new(x2, y2));
+        if !(a.is_finite() && b.is_finite()) {
+            self.skip_non_finite(entity, c.at);
+        } else if a == b {
+            self.skip(&format!("zero-length {entity}"));
+        } else {
+            self.piece(&c, entity, layer, vec![Segment::line(a, b)], false);
+        }
+        Ok(())
+    }
+
+    /// ARC (centre 10/20/30, radius 40, start and end angles 50/51 in degrees,
+    /// counter-clockwise in the OCS) and CIRCLE (centre, radius).
+    fn read_arc(&mut self, start: &Pair<'a>, circle: bool) -> Result<(), ImportError> {
+        let entity = if circle { "CIRCLE" } else { "ARC" };
+        let mut c = Common::new(start);
+        let (mut x, mut y, mut z, mut r) = (0.0, 0.0, 0.0, 0.0);
+        let (mut a0, mut a1) = (0.0, 360.0);
+        while self.field()? {
+            let p = &self.pairs.cur;
+            match p.code {
+                10 => x = p.real()?,
+                20 => y = p.real()?,
+                30 => z = p.real()?,
+                40 => r = p.real()?,
+                50 if !circle => a0 = p.real()?,
+                51 if !circle => a1 = p.real()?,
+                _ => c.take(p, true)?,
+            }
+        }
+        let Some(layer) = self.admit(&c) else {
+            return Ok(());
+        };
+        if ![x, y, z, r, a0, a1].iter().all(|v| v.is_finite()) {
+            self.skip_non_finite(entity, c.at);
+            return Ok(());
+        }
+        let Some(plane) = self.plane(&c, entity) else {
+            return Ok(());
+        };
+        if r <= 0.0 {
+            self.skip(&format!("{entity} with radius <= 0"));
+            return Ok(());
+        }
+        let center = plane.point(x, y, z);
+        let segment = if circle {
+            Segment::Arc(Arc::circle(center, r))
+        } else {
+            // A mirrored OCS turns the counter-clockwise sweep clockwise in the world.
+            let sweep = arc_sweep_deg(a0, a1).to_radians();
+            let sweep = if plane.flips() { -sweep } else { sweep };
+            Segment::Arc(Arc::from_center(center, r, plane.angle(a0), sweep))
+        };
+        if !segment.is_finite() {
+            self.skip_non_finite(entity, c.at);
+            return Ok(());
+        }
+        self.piece(&c, entity, layer, vec![segment], circle);
+        Ok(())
+    }
+
+    /// LWPOLYLINE: flags 70 (bit 1 = closed), elevation 38, vertices 10/20 each optionally
+    /// followed by a bulge 42 (DXF reference, LWPOLYLINE). Widths (40/41/43) and vertex ids
+    /// (91) are not needed.
+    fn read_lwpolyline(&mut self, start: &Pair<'a>) -> Result<(), ImportError> {
+        let mut c = Common::new(start);
+        let mut vertices = std::mem::take(&mut self.vertices);
+        vertices.clear();
+        let (mut flags, mut elevation, mut count) = (0i64, 0.0, None);
+        let mut broken = false;
+        while self.field()? {
+            let p = &self.pairs.cur;
+            match p.code {
+                10 => vertices.push(Vertex {
+                    x: p.real()?,
+                    y: 0.0,
+                    bulge: 0.0,
+                    has_y: false,
+                }),
+                20 => match vertices.last_mut() {
+                    Some(v) if !v.has_y => {
+                        v.y = p.real()?;
+                        v.has_y = true;
+                    }
+                    _ => broken = true,
+                },
+                42 => match vertices.last_mut() {
+                    Some(v) => v.bulge = p.real()?,
+                    None => broken = true,
+                },
+                38 => elevation = p.real()?,
+                70 => flags = p.int()?,
+                90 => count = Some(p.int()?),
+                _ => c.take(p, true)?,
+            }
+        }
+        let result = self.finish_polyline(
+            &c,
+            "LWPOLYLINE",
+            &vertices,
+            flags & 1 != 0,
+            elevation,
+            broken,
+        );
+        if let Some(n) = count.filter(|&n| n != vertices.len() as i64) {
+            let (at, found) = (c.at, vertices.len());
+            self.note_once("vertex count", || {
+                format!("LWPOLYLINE at {at} announces {n} vertices (group 90) but has {found}; the vertices found were used")
+            });
+        }
+        self.vertices = vertices;
+        result
+    }
+
+    /// POLYLINE with its VERTEX entities and SEQEND (DXF reference, POLYLINE and VERTEX).
+    /// Flags 70: 1 = closed, 2 = curve-fit, 4 = spline-fit, 8 = 3-D polyline, 16 = 3-D mesh,
+    /// 64 = polyface mesh. Vertex flag 16 marks a spline frame control point, which is not
+    /// on the curve and is dropped. Elevation is the z of the POLYLINE's own point (30).
+    fn read_polyline(&mut self, start: &Pair<'a>) -> Result<(), ImportError> {
+        let mut c = Common::new(start);
+        let (mut flags, mut elevation) = (0i64, 0.0);
+        while self.field()? {
+            let p = &self.pairs.cur;
+            match p.code {
+                30 => elevation = p.real()?,
+                70 => flags = p.int()?,
+                _ => c.take(p, true)?,
+            }
+        }
+        let mut vertices = std::mem::take(&mut self.vertices);
+        vertices.clear();
+        let result = self.read_vertices(&c, &mut vertices);
+        let result = result.and_then(|()| {
+            if flags & (8 | 16 | 64) != 0 {
+                self.skip(reason::POLYLINE_3D);
+                return Ok(());
+            }
+            if flags & (2 | 4) != 0 {
+                let at = c.at;
+                self.note_once("fit polyline", || {
+                    format!("POLYLINE at {at} is curve- or spline-fit; its fit curve is read as the polyline through its vertices (further cases not noted)")
+                });
+            }
+            self.finish_polyline(&c, "POLYLINE", &vertices, flags & 1 != 0, elevation, false)
+        });
+        self.vertices = vertices;
+        result
+    }
+
+    /// The VERTEX entities after a POLYLINE, and its SEQEND.
+    fn read_vertices(
+        &mut self,
+        c: &Common<'a>,
+        vertices: &mut Vec<Vertex>,
+    ) -> Result<(), ImportError> {
+        loop {
+            let p = self.next_in("ENTITIES")?;
+            if p.is(0, b"VERTEX") {
+                let mut v = Vertex {
+                    x: 0.0,
+                    y: 0.0,
+                    bulge: 0.0,
+                    has_y: true,
+                };
+                let mut vflags = 0i64;
+                while self.field()? {
+                    let f = &self.pairs.cur;
+                    match f.code {
+                        10 => v.x = f.real()?,
+                        20 => v.y = f.real()?,
+                        42 => v.bulge = f.real()?,
+                        70 => vflags = f.int()?,
+                        _ => {}
+                    }
+                }
+                if vflags & 16 == 0 {
+                    vertices.push(v);
+                }
+            } else if p.is(0, b"SEQEND") {
+                return self.skip_fields();
+            } else if p.code == 0 {
+                // Another entity or the section end: SEQEND is missing.
+                self.pairs.push_back(p);
+                let at = c.at;
+                self.note_once("no SEQEND", || {
+                    format!("POLYLINE at {at} has no SEQEND; its vertices end at the next entity")
+                });
+                return Ok(());
+            }
+            // Pairs other than code 0 here belong to no entity: passed over.
+        }
+    }
+
+    /// Checks shared by both polyline kinds, then the piece.
+    fn finish_polyline(
+        &mut self,
+        c: &Common<'a>,
+        entity: &'static str,
+        vertices: &[Vertex],
+        closed: bool,
+        elevation: f64,
+        broken: bool,
+    ) -> Result<(), ImportError> {
+        let Some(layer) = self.admit(c) else {
+            return Ok(());
+        };
+        if broken || vertices.iter().any(|v| !v.has_y) {
+            self.skip(&format!("{entity} with a vertex missing x or y"));
+            return Ok(());
+        }
+        let finite = elevation.is_finite()
+            && vertices
+                .iter()
+                .all(|v| v.x.is_finite() && v.y.is_finite() && v.bulge.is_finite());
+        if !finite {
+            self.skip_non_finite(entity, c.at);
+            return Ok(());
+        }
+        let Some(plane) = self.plane(c, entity) else {
+            return Ok(());
+        };
+        let segments = polyline_segments(vertices, closed, &plane, elevation);
+        if segments.is_empty() {
+            self.skip(&format!("{entity} with fewer than 2 distinct vertices"));
+        } else if !segments.iter().all(Segment::is_finite) {
+            self.skip_non_finite(entity, c.at);
+        } else {
+            self.piece(c, entity, layer, segments, closed);
+        }
+        Ok(())
+    }
+}
+
+/// The edges of a polyline in the drawing plane.
+///
+/// Edge i runs from vertex i to vertex i+1 (and, when closed, from the last vertex back to
+/// the first); it is straight for a zero bulge and otherwise the arc of that bulge, the bulge
+/// belonging to the vertex that starts the edge (DXF reference, LWPOLYLINE group 42: the
+/// tangent of a quarter of the included angle, positive counter-clockwise). A mirrored OCS
+/// negates the bulge. Edges between coincident vertices are dropped.
+fn polyline_segments(vertices: &[Vertex], closed: bool, plane: &Plane, z: f64) -> Vec<Segment> {
+    let n = vertices.len();
+    let edges = if closed { n } else { n.saturating_sub(1) };
+    let sign = if plane.flips() { -1.0 } else { 1.0 };
+    let mut segments = Vec::with_capacity(edges);
+    let mut a = match vertices.first() {
+        Some(v) => plane.point(v.x, v.y, z),
+        None => return segments,
+    };
+    for i in 0..edges {
+        let (va, vb) = (&vertices[i], &vertices[(i + 1) % n]); // i < edges <= n, n > 0
+        let b = plane.point(vb.x, vb.y, z);
+        if a != b {
+            segments.push(match Arc::from_bulge(a, b, va.bulge * sign) {
+                Some(arc) => Segment::Arc(arc),
+                None => Segment::line(a, b),
+            });
+        }
+        a = b;
+    }
+    segments
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn arbitrary_axes_for_minus_z() {
+        // Check values from crates.md §1 (confirmed there against a general-purpose DXF
+        // library's OCS class): N = (0,0,-1) gives Ax = (-1,0,0), Ay = (0,1,0).
+        let (ax, ay, n) = arbitrary_axes([0.0, 0.0, -1.0]).unwrap();
+        assert_eq!(ax, [-1.0, 0.0, 0.0]);
+        assert_eq!(ay, [0.0, 1.0, 0.0]);
+        assert_eq!(n, [0.0, 0.0, -1.0]);
+        // N = +Z gives the world axes (DXF reference, Arbitrary Axis Algorithm; from memory).
+        let (ax, ay, _) = arbitrary_axes([0.0, 0.0, 2.0]).unwrap();
+        assert_eq!(ax, [1.0, 0.0, 0.0]);
+        assert_eq!(ay, [0.0, 1.0, 0.0]);
+    }
+
+    #[test]
+    fn arbitrary_axes_general() {
+        // For any N the axes are orthonormal and right-handed (Ax × Ay = N), by construction
+        // of the algorithm (DXF reference, Arbitrary Axis Algorithm; from memory).
+        for n in [
+            [1.0, 0.0, 0.0],
+            [0.0, -1.0, 0.0],
+            [0.3, -0.4, 0.5],
+            [0.01, 0.001, -1.0],
+        ] {
+            let (ax, ay, n) = arbitrary_axes(n).unwrap();
+            let dot = |a: [f64; 3], b: [f64; 3]| a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
+            assert!(dot(ax, ay).abs() < 1e-15 && dot(ax, n).abs() < 1e-15);
+            assert!((dot(ax, ax) - 1.0).abs() < 1e-15 && (dot(ay, ay) - 1.0).abs() < 1e-15);
+            let c = cross(ax, ay);
+            assert!(
+                (0..3).all(|k| (c[k] - n[k]).abs() < 1e-15),
+                "{c:?} vs {n:?}"
+            );
+        }
+        // N = (1,0,0): |Nx| >= 1/64, so Ax = Wz × N = (0,1,0) and Ay = N × Ax = (0,0,1).
+        let (ax, ay, _) = arbitrary_axes([1.0, 0.0, 0.0]).unwrap();
+        assert_eq!(ax, [0.0, 1.0, 0.0]);
+        assert_eq!(ay, [0.0, 0.0, 1.0]);
+        assert!(arbitrary_axes([0.0, 0.0, 0.0]).is_none());
+        assert!(arbitrary_axes([f64::NAN, 0.0, 1.0]).is_none());
+    }
+
+    #[test]
+    fn planes() {
+        assert_eq!(Plane::from_normal([0.0, 0.0, 1.0]), Ok(Plane::Identity));
+        assert_eq!(Plane::from_normal([0.0, 0.0, -3.0]), Ok(Plane::MirrorX));
+        assert_eq!(
+            Plane::from_normal([0.0, 0.0, 0.0]),
+            Err(PlaneError::Invalid)
+        );
+        assert_eq!(
+            Plane::from_normal([0.0, 1.0, 0.0]),
+            Err(PlaneError::OutOfPlane)
+        );
+        assert_eq!(
+            Plane::from_normal([0.0, 0.01, 1.0]),
+            Err(PlaneError::OutOfPlane)
+        );
+        // crates.md §1: N = (0,0,-1), OCS (-50,50) -> WCS (50,50).
+        let m = Plane::MirrorX;
+        assert_eq!(m.point(-50.0, 50.0, 7.0), Point::new(50.0, 50.0));
+        // crates.md §1: an OCS angle of 30° is 150° in the world, 120° is 60°.
+        assert!((m.angle(30.0) - 150f64.to_radians()).abs() < 1e-15);
+        assert!((m.angle(120.0) - 60f64.to_radians()).abs() < 1e-15);
+        // A normal tilted by float noise: close to the exact map.
+        let t = Plane::from_normal([1e-9, 0.0, -1.0]).unwrap();
+        assert!(t.flips());
+        assert!(t.point(-50.0, 50.0, 0.0).dist(Point::new(50.0, 50.0)) < 1e-12);
+        let d = t.angle(30.0) - 150f64.to_radians();
+        assert!(d.abs() < 1e-12, "{d}");
+        // The elevation moves the point along N's world x,y part: z * Nx.
+        let p = t.point(0.0, 0.0, 1e6);
+        assert!((p.x - 1e-3).abs() < 1e-12 && p.y == 0.0, "{p:?}");
+    }
+
+    #[test]
+    fn arc_sweeps() {
+        // DXF reference, ARC: counter-clockwise from start to end (from memory).
+        assert_eq!(arc_sweep_deg(30.0, 120.0), 90.0);
+        assert_eq!(arc_sweep_deg(350.0, 10.0), 20.0);
+        assert_eq!(arc_sweep_deg(0.0, 360.0), 360.0);
+        assert_eq!(arc_sweep_deg(45.0, 45.0), 360.0);
+        assert_eq!(arc_sweep_deg(90.0, 450.0), 360.0);
+        assert_eq!(arc_sweep_deg(30.0, 450.0), 60.0);
+        assert_eq!(arc_sweep_deg(-90.0, 90.0), 180.0);
+    }
+
+    #[test]
+    fn segments_of_polylines() {
+        let v = |x: f64, y: f64, bulge: f64| Vertex {
+            x,
+            y,
+            bulge,
+            has_y: true,
+        };
+        // Open, with a repeated vertex: the zero-length edge is dropped.
+        let s = polyline_segments(
+            &[
+                v(0.0, 0.0, 0.0),
+                v(1.0, 0.0, 0.0),
+                v(1.0, 0.0, 1.0),
+                v(1.0, 2.0, 0.0),
+            ],
+            false,
+            &Plane::Identity,
+            0.0,
+        );
+        assert_eq!(s.len(), 2);
+        let Segment::Arc(arc) = s[1] else {
+            panic!("bulge 1 makes an arc")
+        };
+        // Bulge 1 = half circle (tan(θ/4) = 1 → θ = 180°; DXF reference, group 42).
+        assert!((arc.sweep - std::f64::consts::PI).abs() < 1e-15);
+        assert!(arc.center.dist(Point::new(1.0, 1.0)) < 1e-15);
+        // Closed: the closing edge starts at the last vertex.
+        let s = polyline_segments(
+            &[v(0.0, 0.0, 0.0), v(1.0, 0.0, 0.0), v(1.0, 1.0, -1.0)],
+            true,
+            &Plane::Identity,
+            0.0,
+        );
+        assert_eq!(s.len(), 3);
+        assert!(matches!(s[2], Segment::Arc(a) if a.sweep < 0.0));
+        assert!(polyline_segments(&[v(1.0, 1.0, 0.0)], true, &Plane::Identity, 0.0).is_empty());
+        assert!(polyline_segments(&[], true, &Plane::Identity, 0.0).is_empty());
+    }
+
+    #[test]
+    fn type_reasons() {
+        assert_eq!(type_reason(b"INSERT"), "INSERT (blocks not read yet)");
+        assert_eq!(type_reason(b"SPLINE"), "SPLINE (not read yet)");
+        assert_eq!(type_reason(b"ELLIPSE"), "ELLIPSE (not read yet)");
+        assert_eq!(type_reason(b"MTEXT"), "MTEXT");
+        assert_eq!(type_reason(b"\xe4"), "ä");
+    }
+}
