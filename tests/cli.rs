@@ -9,6 +9,9 @@ use std::process::{Command, Output};
 
 const BIN: &str = env!("CARGO_BIN_EXE_sectio");
 
+/// Values read back from the CSV carry 12 significant digits: compare to 1e-10 relative.
+const CSV_REL: f64 = 1e-10;
+
 fn fixture(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("fixtures")
@@ -116,19 +119,19 @@ fn tube_gives_one_ok_row_with_the_required_columns() {
     assert_close!(
         r.f("area_mm2"),
         PI * (50.0f64.powi(2) - 44.0f64.powi(2)) / 4.0,
-        rel = 1e-11
+        rel = CSV_REL
     );
     assert_close!(
         r.f("ixx_mm4"),
         PI * (50.0f64.powi(4) - 44.0f64.powi(4)) / 64.0,
-        rel = 1e-11
+        rel = CSV_REL
     );
     assert_eq!(r.f("holes"), 1.0);
     // Mass per metre = A × 2700 kg/m³ (EN 1999-1-1 §3.2.5 density of aluminium; check-values §5).
     assert_close!(
         r.f("mass_kg_per_m"),
         r.f("area_mm2") * 1e-6 * 2700.0,
-        rel = 1e-11
+        rel = CSV_REL
     );
     assert!(
         stderr.contains("1 files, 1 profiles measured, 0 errors"),
@@ -141,15 +144,15 @@ fn inch_drawing_converts_and_output_units_follow_units_flag() {
     let (code, _, rows, _) = measure(&[&path("dxf/plate_inch.dxf")]);
     assert_eq!(code, 0);
     // 2 in × 1 in = 2 in² = 2 × 25.4² mm² (1 in = 25.4 mm exactly, by definition).
-    assert_close!(rows[0].f("area_mm2"), 2.0 * 25.4 * 25.4, rel = 1e-13);
+    assert_close!(rows[0].f("area_mm2"), 2.0 * 25.4 * 25.4, rel = CSV_REL);
     assert_eq!(rows[0].s("drawing_units"), "in");
     let (code, header, rows, _) = measure(&[&path("dxf/plate_inch.dxf"), "--units", "in"]);
     assert_eq!(code, 0);
     assert!(header.contains(&"area_in2".to_string()) && header.contains(&"ixx_in4".to_string()));
-    assert_close!(rows[0].f("area_in2"), 2.0, rel = 1e-13);
+    assert_close!(rows[0].f("area_in2"), 2.0, rel = CSV_REL);
     // Plate b = 2, h = 1: Ix = bh³/12 (Roark Table A.1).
-    assert_close!(rows[0].f("ixx_in4"), 2.0 / 12.0, rel = 1e-12);
-    assert_close!(rows[0].f("cx_in"), 1.0, rel = 1e-13);
+    assert_close!(rows[0].f("ixx_in4"), 2.0 / 12.0, rel = CSV_REL);
+    assert_close!(rows[0].f("cx_in"), 1.0, rel = CSV_REL);
 }
 
 #[test]
@@ -162,10 +165,10 @@ fn unitless_drawings_assume_millimetres_and_say_so() {
         "{}",
         rows[0].s("message")
     );
-    assert_close!(rows[0].f("area_mm2"), 800.0, rel = 1e-14);
+    assert_close!(rows[0].f("area_mm2"), 800.0, rel = CSV_REL);
     let (_, _, rows, _) = measure(&[&path("dxf/plate_unitless.dxf"), "--assume-units", "cm"]);
     assert_eq!(rows[0].s("drawing_units"), "cm (assumed)");
-    assert_close!(rows[0].f("area_mm2"), 800.0 * 100.0, rel = 1e-14);
+    assert_close!(rows[0].f("area_mm2"), 800.0 * 100.0, rel = CSV_REL);
 }
 
 #[test]
@@ -173,7 +176,7 @@ fn layers_choose_what_is_measured() {
     // Default: the closed title frame holds the flat bar as a hole; the off layer is skipped.
     let (_, _, rows, _) = measure(&[&path("dxf/layers.dxf")]);
     assert_eq!(rows.len(), 1);
-    assert_close!(rows[0].f("area_mm2"), 300.0 * 200.0 - 300.0, rel = 1e-13);
+    assert_close!(rows[0].f("area_mm2"), 300.0 * 200.0 - 300.0, rel = CSV_REL);
     assert!(
         rows[0].s("message").contains("TEXT"),
         "{}",
@@ -187,7 +190,7 @@ fn layers_choose_what_is_measured() {
         assert_eq!(code, 0);
         assert_eq!(rows.len(), 1, "{rows:?}");
         assert_eq!(rows[0].s("layer"), "PROFILE");
-        assert_close!(rows[0].f("area_mm2"), 300.0, rel = 1e-14);
+        assert_close!(rows[0].f("area_mm2"), 300.0, rel = CSV_REL);
     }
     let (_, _, rows, _) = measure(&[
         &path("dxf/layers.dxf"),
@@ -337,7 +340,7 @@ fn locale_friendly_delimiter_and_decimal_comma() {
     assert!(header.contains(&"area_mm2".to_string()));
     let area = rows[0].s("area_mm2");
     assert!(area.contains(',') && !area.contains('.'), "{area}");
-    assert_close!(rows[0].f("area_mm2"), PI * (625.0 - 484.0), rel = 1e-11);
+    assert_close!(rows[0].f("area_mm2"), PI * (625.0 - 484.0), rel = CSV_REL);
     let out = run(&["measure", &path("dxf/tube.dxf"), "--delimiter", "tab"]);
     let (_, rows) = parse(&out.stdout, b'\t');
     assert_eq!(rows[0].s("status"), "ok");
@@ -358,7 +361,7 @@ fn density_and_merge() {
     assert_close!(
         rows[0].f("mass_kg_per_m"),
         rows[0].f("area_mm2") * 7850e-6,
-        rel = 1e-12
+        rel = CSV_REL
     );
     let (_, _, rows, _) = measure(&[
         &path("dxf/layers.dxf"),
@@ -370,7 +373,7 @@ fn density_and_merge() {
         "--merge",
     ]);
     assert_eq!(rows.len(), 1);
-    assert_close!(rows[0].f("area_mm2"), 300.0 + PI * 25.0, rel = 1e-13);
+    assert_close!(rows[0].f("area_mm2"), 300.0 + PI * 25.0, rel = CSV_REL);
 }
 
 #[test]
