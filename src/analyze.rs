@@ -229,7 +229,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
 }
 
 fn joined_layers(profiles: &[&Profile]) -> String {
-    let mut layers: Vec<&str> = profiles.iter().map(|p| p.outer.layer.as_str()).collect();
+    let mut layers: Vec<&str> = profiles.iter().map(|p| &*p.outer.layer).collect();
     layers.sort_unstable();
     layers.dedup();
     layers.join("+")

@@ -67,10 +67,13 @@ fn line() {
     assert_eq!(d.pieces.len(), 1);
     let p = &d.pieces[0];
     assert!(!p.closed);
-    assert_eq!(p.layer, "PROFILE");
+    assert_eq!(&*p.layer, "PROFILE");
     assert_eq!(p.origin.entity, "LINE");
     assert_eq!(p.origin.location, Location::Line(5));
-    assert_eq!(p.origin.handle.as_deref(), Some("1A"));
+    assert_eq!(
+        p.origin.handle.map(|h| h.to_string()).as_deref(),
+        Some("1A")
+    );
     assert_eq!(
         p.segments,
         vec![Segment::line(Point::new(1.5, -2.0), Point::new(4.0, 2.0))]
@@ -81,7 +84,7 @@ fn line() {
 fn zero_length_line_and_default_layer() {
     let d = entities("0\nLINE\n10\n1\n20\n1\n11\n1\n21\n1\n0\nLINE\n11\n1\n");
     assert_eq!(d.pieces.len(), 1);
-    assert_eq!(d.pieces[0].layer, "0");
+    assert_eq!(&*d.pieces[0].layer, "0");
     assert_eq!(d.pieces[0].origin.handle, None);
     assert_eq!(skipped(&d, "zero-length LINE"), 1);
 }
@@ -146,8 +149,11 @@ fn lwpolyline_bulges() {
     assert_eq!(d.pieces.len(), 1);
     let p = &d.pieces[0];
     assert!(p.closed);
-    assert_eq!(p.layer, "HV-204");
-    assert_eq!(p.origin.handle.as_deref(), Some("FF"));
+    assert_eq!(&*p.layer, "HV-204");
+    assert_eq!(
+        p.origin.handle.map(|h| h.to_string()).as_deref(),
+        Some("FF")
+    );
     assert_eq!(p.segments.len(), 4);
     // Bulge 0.5 on a chord of 10: θ = 4·atan(0.5) = 1.8546 rad, r = 6.25 (crates.md §1), the
     // centre 3.75 to the left of the chord (r·cos(θ/2) = 6.25 · 0.6; common practice).
@@ -220,7 +226,10 @@ fn polyline_two_d() {
     assert!(p.closed);
     assert_eq!(p.origin.entity, "POLYLINE");
     assert_eq!(p.origin.location, Location::Line(5));
-    assert_eq!(p.origin.handle.as_deref(), Some("2B"));
+    assert_eq!(
+        p.origin.handle.map(|h| h.to_string()).as_deref(),
+        Some("2B")
+    );
     assert_eq!(p.segments.len(), 3);
     // Bulge tan(22.5°) = 0.41421356237: a quarter circle (DXF reference, group 42; from memory).
     let a = arc_of(&p.segments[0]);
@@ -357,7 +366,7 @@ fn hidden_layers() {
         .collect();
     let text = drawing(LAYERS, &ents);
     let d = read_str(&text).unwrap();
-    let layers: Vec<&str> = d.pieces.iter().map(|p| p.layer.as_str()).collect();
+    let layers: Vec<&str> = d.pieces.iter().map(|p| &*p.layer).collect();
     assert_eq!(layers, ["Visible", "Locked", "UNLISTED"]);
     assert_eq!(skipped(&d, "layer off or frozen: OFF"), 1);
     // Layer names are case-insensitive; each spelling is counted as written.
@@ -387,7 +396,7 @@ fn selected_layers() {
     };
     let d = read(text.as_bytes(), &sel).unwrap();
     assert_eq!(d.pieces.len(), 1);
-    assert_eq!(d.pieces[0].layer, "Visible");
+    assert_eq!(&*d.pieces[0].layer, "Visible");
     assert_eq!(skipped(&d, "layer off or frozen: OFF"), 1);
     assert_eq!(skipped(&d, "layer not selected: Locked"), 1);
     assert_eq!(skipped(&d, "layer not selected: dims"), 1);
@@ -917,7 +926,7 @@ fn corpus_file_facts() {
     // MANIFEST: plain text after "0 EOF"; one CIRCLE.
     let d = load("bad_trailing_garbage_after_eof.dxf");
     assert_eq!(d.pieces.len(), 1);
-    assert_eq!(d.pieces[0].layer, "Layer_is_a_required_tag");
+    assert_eq!(&*d.pieces[0].layer, "Layer_is_a_required_tag");
 
     // MANIFEST: zero and negative radius circles.
     let d = load("degenerate_circles_zero_negative_radius.dxf");
@@ -1186,7 +1195,7 @@ fn oracle_dxf_crate() {
         let mut mine: BTreeMap<&str, Vec<&sectio::import::Piece>> = BTreeMap::new();
         for p in &ours.pieces {
             // 3DLINE (Release 10) is a LINE to the `dxf` crate.
-            let kind = match p.origin.entity.as_str() {
+            let kind = match p.origin.entity {
                 "3DLINE" => "LINE",
                 k => k,
             };

@@ -17,13 +17,13 @@ use std::collections::HashMap;
 use std::hash::{Hash, Hasher};
 
 use super::segment::{BBox, Point, Segment};
-use crate::import::{Origin, Piece};
+use crate::import::{LayerName, Origin, Piece};
 
 /// A closed loop of segments, each starting where the previous one ends.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Loop {
     pub segments: Vec<Segment>,
-    pub layer: String,
+    pub layer: LayerName,
     /// The entity the loop starts with (for messages).
     pub origin: Origin,
 }
@@ -271,7 +271,7 @@ pub(crate) type FastBuild = std::hash::BuildHasherDefault<FastHasher>;
 pub(crate) type FastMap<K, V> = HashMap<K, V, FastBuild>;
 
 /// Make a loop from segments that already form a closed run, bridging tiny gaps.
-fn close_up(mut segments: Vec<Segment>, layer: String, origin: Origin) -> Loop {
+fn close_up(mut segments: Vec<Segment>, layer: LayerName, origin: Origin) -> Loop {
     let mut out = Vec::with_capacity(segments.len() + 1);
     let first = segments[0].start();
     for s in segments.drain(..) {

@@ -30,15 +30,44 @@ impl fmt::Display for Location {
     }
 }
 
+/// A layer name, shared by every piece on the layer (cheap to clone).
+pub type LayerName = std::sync::Arc<str>;
+
+/// A DXF entity handle (group 5): a hexadecimal number, shown as the file writes it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct Handle(pub u64);
+
+impl Handle {
+    /// Parse the hexadecimal digits of group 5; `None` when they are not a handle.
+    pub fn parse(text: &[u8]) -> Option<Handle> {
+        let t = text.trim_ascii();
+        if t.is_empty() || t.len() > 16 {
+            return None;
+        }
+        let mut v = 0u64;
+        for &b in t {
+            let d = (b as char).to_digit(16)?;
+            v = (v << 4) | d as u64;
+        }
+        Some(Handle(v))
+    }
+}
+
+impl fmt::Display for Handle {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{:X}", self.0)
+    }
+}
+
 /// Which entity a piece came from.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Origin {
     /// Entity type as written in the file, e.g. `LWPOLYLINE`.
-    pub entity: String,
+    pub entity: &'static str,
     /// Where the entity starts in the file.
     pub location: Location,
     /// DXF handle (group 5), when the file has one.
-    pub handle: Option<String>,
+    pub handle: Option<Handle>,
 }
 
 impl fmt::Display for Origin {
@@ -60,7 +89,7 @@ impl fmt::Display for Origin {
 pub struct Piece {
     pub segments: Vec<Segment>,
     pub closed: bool,
-    pub layer: String,
+    pub layer: LayerName,
     pub origin: Origin,
 }
 

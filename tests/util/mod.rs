@@ -38,9 +38,9 @@ pub fn p(x: f64, y: f64) -> Point {
     Point::new(x, y)
 }
 
-pub fn origin(entity: &str) -> Origin {
+pub fn origin(entity: &'static str) -> Origin {
     Origin {
-        entity: entity.to_string(),
+        entity,
         location: Location::Line(1),
         handle: None,
     }

@@ -17,7 +17,7 @@ use std::borrow::Cow;
 use super::codes::Pair;
 use super::{decode_text, Reader, Verdict};
 use crate::geom::{Arc, Point, Segment};
-use crate::import::{ImportError, Location, Origin, Piece};
+use crate::import::{Handle, ImportError, LayerName, Location, Origin, Piece};
 
 /// Skip-reason texts used in more than one place.
 pub(crate) mod reason {
@@ -296,7 +296,7 @@ impl<'a> Reader<'a, '_> {
     }
 
     /// Paper space and layer checks: the layer name to use, or `None` when counted as skipped.
-    fn admit(&mut self, c: &Common<'a>) -> Option<String> {
+    fn admit(&mut self, c: &Common<'a>) -> Option<LayerName> {
         if c.paper {
             self.skip(reason::PAPER_SPACE);
             return None;
@@ -346,7 +346,7 @@ impl<'a> Reader<'a, '_> {
         &mut self,
         c: &Common<'a>,
         entity: &'static str,
-        layer: String,
+        layer: LayerName,
         segments: Vec<Segment>,
         closed: bool,
     ) {
@@ -355,9 +355,9 @@ impl<'a> Reader<'a, '_> {
             closed,
             layer,
             origin: Origin {
-                entity: entity.to_owned(),
+                entity,
                 location: c.at,
-                handle: c.handle.map(decode_text),
+                handle: c.handle.and_then(Handle::parse),
             },
         };
         self.push_piece(piece);

@@ -29,7 +29,9 @@ mod entities;
 
 use std::collections::{HashMap, HashSet};
 
-use super::{Drawing, ImportError, ImportErrorKind, LengthUnit, Piece, ReadOptions, SourceUnits};
+use super::{
+    Drawing, ImportError, ImportErrorKind, LayerName, LengthUnit, Piece, ReadOptions, SourceUnits,
+};
 use codes::{shown_text, Pair, Pairs};
 
 /// Read a DXF file (ASCII or binary) held in memory.
@@ -76,7 +78,7 @@ pub(crate) struct Reader<'a, 'o> {
 #[derive(Debug, Clone)]
 enum Verdict {
     /// Read them; the layer's name as shown to the user.
-    Keep(String),
+    Keep(LayerName),
     /// Skip them for this reason.
     Skip(String),
 }
@@ -118,7 +120,7 @@ impl Layers {
                     } else if !opts.layer_selected(&shown) {
                         Verdict::Skip(format!("layer not selected: {shown}"))
                     } else {
-                        Verdict::Keep(shown)
+                        Verdict::Keep(LayerName::from(shown))
                     };
                     self.verdicts.push((name.to_vec(), verdict));
                     let i = self.verdicts.len() - 1;
