@@ -112,7 +112,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     let join_gap = settings
         .join_gap
         .unwrap_or_else(|| default_join_gap(extent));
-    let chained = chain(&drawing.pieces, join_gap);
+    let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
     let profiles = nest(loops, &mut problems);

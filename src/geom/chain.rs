@@ -157,22 +157,28 @@ pub struct Chained {
 /// A broken loop is an open chain whose ends are closer than this fraction of its length.
 pub const BROKEN_GAP_RATIO: f64 = 0.1;
 
+/// Where a run came from: its layer and first entity.
+type Meta = (LayerName, Origin);
+
 /// Build loops from pieces (coordinates in millimetres); `join_gap` as in the module doc.
-pub fn chain(pieces: &[Piece], join_gap: f64) -> Chained {
+pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
     let mut out = Chained::default();
     let q = join_gap.max(f64::MIN_POSITIVE);
     // Whole entities drawn twice (either way round) are dropped. A direction-free
     // fingerprint (count and wrapping sum of hashed segment keys) finds candidates; the
     // sorted keys confirm them, so a fingerprint collision never drops a loop.
     let mut seen: FastMap<(usize, u64, bool), Vec<usize>> = FastMap::default();
-    let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
+    let mut meta: Vec<Meta> = Vec::with_capacity(pieces.len());
+    let mut store: Vec<(Vec<Segment>, bool, usize)> = Vec::with_capacity(pieces.len());
     let sorted_keys = |segs: &[Segment]| {
         let mut k: Vec<SegKey> = segs.iter().map(|s| seg_key(s, q)).collect();
         k.sort_unstable();
         k
     };
-    for (pi, piece) in pieces.iter().enumerate() {
-        let kept = drop_tiny(&piece.segments, join_gap, &mut out.degenerate);
+    for piece in pieces {
+        let pi = meta.len();
+        meta.push((piece.layer, piece.origin));
+        let kept = drop_tiny(piece.segments, join_gap, &mut out.degenerate);
         if kept.is_empty() {
             continue;
         }
@@ -184,56 +190,60 @@ pub fn chain(pieces: &[Piece], join_gap: f64) -> Chained {
         let same = seen.entry((kept.len(), sum, piece.closed)).or_default();
         if !same.is_empty() {
             let mine = sorted_keys(&kept);
-            let twin = same.iter().any(|&other| {
-                let theirs = drop_tiny(&pieces[other].segments, join_gap, &mut 0);
-                sorted_keys(&theirs) == mine
-            });
-            if twin {
+            if same.iter().any(|&k| sorted_keys(&store[k].0) == mine) {
                 out.duplicates += 1;
                 continue;
             }
         }
-        same.push(pi);
-        if piece.closed {
-            out.loops
-                .push(close_up(kept, piece.layer.clone(), piece.origin.clone()));
+        same.push(store.len());
+        store.push((kept, piece.closed, pi));
+    }
+    let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
+    for (segs, closed, pi) in store {
+        if closed {
+            let (layer, origin) = &meta[pi];
+            out.loops.push(close_up(segs, layer.clone(), *origin));
         } else {
-            open.push((kept, pi));
+            open.push((segs, pi));
         }
     }
-    link(&open, pieces, join_gap, &mut out);
+    link(&open, &meta, join_gap, &mut out);
     out
 }
 
-/// The segments without those shorter than `join_gap` (full circles excepted); the segment
-/// after a dropped one starts where the one before it ends, so the run stays connected.
-fn drop_tiny(segments: &[Segment], join_gap: f64, dropped: &mut usize) -> Vec<Segment> {
-    let mut kept: Vec<Segment> = Vec::with_capacity(segments.len());
+/// The segments without those shorter than `join_gap` (full circles excepted), in place;
+/// the segment after a dropped one starts where the one before it ends, so the run stays
+/// connected.
+fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> Vec<Segment> {
+    let mut write = 0;
     let mut relink = false;
-    for s in segments {
+    for read in 0..segments.len() {
+        let s = segments[read];
         let full = matches!(s, Segment::Arc(a) if a.is_full_circle());
         if !full && (s.length() <= join_gap || !s.is_finite()) {
             *dropped += 1;
             relink = true;
             continue;
         }
-        match kept.last() {
-            Some(prev) if relink => {
-                let start = prev.end();
-                kept.push(snapped(*s, start, s.end()));
-            }
-            _ => kept.push(*s),
-        }
+        segments[write] = if relink && write > 0 {
+            snapped(s, segments[write - 1].end(), s.end())
+        } else {
+            s
+        };
+        write += 1;
         relink = false;
     }
-    kept
+    segments.truncate(write);
+    segments
 }
 
 /// Quantised, direction-free identity of a segment, for duplicate detection.
 type SegKey = [(i64, i64); 3];
 
 fn seg_key(s: &Segment, q: f64) -> SegKey {
-    let cell = |p: Point| ((p.x / q).round() as i64, (p.y / q).round() as i64);
+    // Round half away from zero by a cast (one instruction; `f64::round` is a call).
+    let round = |v: f64| (v + 0.5f64.copysign(v)) as i64;
+    let cell = |p: Point| (round(p.x / q), round(p.y / q));
     let (a, b) = (cell(s.start()), cell(s.end()));
     let (a, b) = if a <= b { (a, b) } else { (b, a) };
     [a, b, cell(s.midpoint())]
@@ -309,30 +319,41 @@ fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
     }
 }
 
+/// End of a cell's list of nodes.
+const NONE: u32 = u32::MAX;
+
 /// Grid of merged endpoint nodes.
 struct Nodes {
     cell: f64,
     join_gap: f64,
-    grid: FastMap<(i64, i64), Vec<u32>>,
+    /// First node in each cell; further nodes of the cell follow through `next`.
+    grid: FastMap<(i64, i64), u32>,
+    next: Vec<u32>,
     pos: Vec<Point>,
 }
 
 impl Nodes {
+    /// The node within `join_gap` of `p` (the nearest, when several), or a new one.
+    ///
+    /// Cells are four gaps wide, so only a point within one gap of its cell's border needs
+    /// the neighbouring cells searched.
     fn id(&mut self, p: Point) -> u32 {
-        let (cx, cy) = (
-            (p.x / self.cell).floor() as i64,
-            (p.y / self.cell).floor() as i64,
-        );
+        let (fx, fy) = (p.x / self.cell, p.y / self.cell);
+        let (cx, cy) = (fx.floor() as i64, fy.floor() as i64);
+        let margin = self.join_gap / self.cell;
+        let (rx, ry) = (fx - cx as f64, fy - cy as f64);
+        let dxs: &[i64] = if rx < margin { &[0, -1] } else if rx > 1.0 - margin { &[0, 1] } else { &[0] };
+        let dys: &[i64] = if ry < margin { &[0, -1] } else if ry > 1.0 - margin { &[0, 1] } else { &[0] };
         let mut best: Option<(f64, u32)> = None;
-        for dx in -1..=1 {
-            for dy in -1..=1 {
-                if let Some(ids) = self.grid.get(&(cx + dx, cy + dy)) {
-                    for &id in ids {
-                        let d = self.pos[id as usize].dist(p);
-                        if d <= self.join_gap && best.is_none_or(|(bd, _)| d < bd) {
-                            best = Some((d, id));
-                        }
+        for &dx in dxs {
+            for &dy in dys {
+                let mut id = self.grid.get(&(cx + dx, cy + dy)).copied().unwrap_or(NONE);
+                while id != NONE {
+                    let d = self.pos[id as usize].dist(p);
+                    if d <= self.join_gap && best.is_none_or(|(bd, _)| d < bd) {
+                        best = Some((d, id));
                     }
+                    id = self.next[id as usize];
                 }
             }
         }
@@ -341,19 +362,22 @@ impl Nodes {
         }
         let id = self.pos.len() as u32;
         self.pos.push(p);
-        self.grid.entry((cx, cy)).or_default().push(id);
+        let head = self.grid.entry((cx, cy)).or_insert(NONE);
+        self.next.push(*head);
+        *head = id;
         id
     }
 }
 
-fn link(runs: &[(Vec<Segment>, usize)], pieces: &[Piece], join_gap: f64, out: &mut Chained) {
+fn link(runs: &[(Vec<Segment>, usize)], meta: &[Meta], join_gap: f64, out: &mut Chained) {
     if runs.is_empty() {
         return;
     }
     let mut nodes = Nodes {
-        cell: join_gap.max(f64::MIN_POSITIVE),
+        cell: (4.0 * join_gap).max(f64::MIN_POSITIVE),
         join_gap,
         grid: FastMap::with_capacity_and_hasher(runs.len() * 2, FastBuild::default()),
+        next: Vec::with_capacity(runs.len() * 2),
         pos: Vec::with_capacity(runs.len() * 2),
     };
     // ends[i] = (node at the run's start, node at its end)
@@ -406,7 +430,7 @@ fn link(runs: &[(Vec<Segment>, usize)], pieces: &[Piece], join_gap: f64, out: &m
                 at: nodes.pos[n as usize],
                 ends: degree[n as usize] as usize,
                 bbox,
-                origin: pieces[runs[r0].1].origin.clone(),
+                origin: meta[runs[r0].1].1,
             });
         }
     }
@@ -463,20 +487,19 @@ fn link(runs: &[(Vec<Segment>, usize)], pieces: &[Piece], join_gap: f64, out: &m
     for r in 0..runs.len() {
         if !used[r] {
             let (run, closed) = walk(ends[r].0, r as u32, &mut used);
-            let piece = &pieces[runs[r].1];
+            let (layer, origin) = &meta[runs[r].1];
             if closed {
-                out.loops
-                    .push(close_up(run, piece.layer.clone(), piece.origin.clone()));
+                out.loops.push(close_up(run, layer.clone(), *origin));
             } else {
                 open.push((run, runs[r].1));
             }
         }
     }
-    classify_open(open, pieces, out);
+    classify_open(open, meta, out);
 }
 
 /// Decide which open chains are broken loops (errors) and which are stray geometry.
-fn classify_open(open: Vec<(Vec<Segment>, usize)>, pieces: &[Piece], out: &mut Chained) {
+fn classify_open(open: Vec<(Vec<Segment>, usize)>, meta: &[Meta], out: &mut Chained) {
     struct Info {
         p: Point,
         q: Point,
@@ -532,7 +555,7 @@ fn classify_open(open: Vec<(Vec<Segment>, usize)>, pieces: &[Piece], out: &mut C
                 gap,
                 length: info.length,
                 bbox: info.bbox,
-                origin: pieces[info.piece].origin.clone(),
+                origin: meta[info.piece].1,
             }),
             None => out.stray_chains += 1,
         }

@@ -88,13 +88,7 @@ pub fn drop_crossing_loops(
                 if it.sg == jt.sg {
                     continue;
                 }
-                if consecutive_lines_only_share_their_vertex(
-                    l1.segments.len(),
-                    it.sg,
-                    jt.sg,
-                    s1,
-                    s2,
-                ) {
+                if neighbours_only_share_their_vertex(l1.segments.len(), it.sg, jt.sg, s1, s2, tol) {
                     continue;
                 }
                 // Points of one loop that are close along the loop (a shared vertex, a
@@ -144,31 +138,48 @@ pub fn drop_crossing_loops(
     kept
 }
 
-/// Fast path: two straight neighbours in a loop of three or more segments meet only at their
-/// shared vertex unless the second turns back along the first.
-fn consecutive_lines_only_share_their_vertex(
+/// Fast path: two neighbours in a loop of three or more segments, where a line is one of
+/// them, meet only at their shared vertex unless the line reaches the other segment again:
+/// a second line turning back along the first, or a line cutting the arc's circle a second
+/// time within its length.
+fn neighbours_only_share_their_vertex(
     n: usize,
     i: u32,
     j: u32,
     s1: &super::Segment,
     s2: &super::Segment,
+    tol: f64,
 ) -> bool {
     use super::Segment;
     let n = n as u32;
     if n < 3 {
         return false;
     }
-    let (Segment::Line { a, b }, Segment::Line { a: c, b: d }) = (s1, s2) else {
-        return false;
-    };
-    let (u, v) = if j == (i + 1) % n {
-        (*b - *a, *d - *c)
+    // (first, second): the second starts where the first ends.
+    let (first, second) = if j == (i + 1) % n {
+        (s1, s2)
     } else if i == (j + 1) % n {
-        (*d - *c, *b - *a)
+        (s2, s1)
     } else {
         return false;
     };
-    u.cross(v).abs() > 1e-9 * u.norm() * v.norm() || u.dot(v) > 0.0
+    // A line and a circle through one of its ends `v`: the other crossing lies at distance
+    // s = −2·u·(v − c) from `v` along the unit direction u towards the line's far end.
+    let other_crossing_beyond = |v: Point, far: Point, c: Point| {
+        let d = far - v;
+        let len = d.norm();
+        let s = -2.0 * (d * (1.0 / len)).dot(v - c);
+        s <= tol || s > len + tol
+    };
+    match (first, second) {
+        (Segment::Line { a, b }, Segment::Line { a: c, b: d }) => {
+            let (u, v) = (*b - *a, *d - *c);
+            u.cross(v).abs() > 1e-9 * u.norm() * v.norm() || u.dot(v) > 0.0
+        }
+        (Segment::Line { a, b }, Segment::Arc(arc)) => other_crossing_beyond(*b, *a, arc.center),
+        (Segment::Arc(arc), Segment::Line { a, b }) => other_crossing_beyond(*a, *b, arc.center),
+        _ => false,
+    }
 }
 
 /// Whether two segments only touch at `at` (tangent curves) rather than cross: the points a

@@ -2,7 +2,7 @@
 
 use std::f64::consts::{PI, TAU};
 
-use super::segment::{Arc, Point, Segment};
+use super::segment::{wrap_tau, Arc, Point, Segment};
 
 /// A point where two segments meet, with the fraction along each (0 at start, 1 at end).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -16,7 +16,7 @@ pub struct Hit {
 /// than `ang_tol` radians.
 fn arc_fraction(arc: &Arc, angle: f64, ang_tol: f64) -> Option<f64> {
     let sweep = arc.sweep.abs();
-    let rel = ((angle - arc.start_angle) * arc.sweep.signum()).rem_euclid(TAU);
+    let rel = wrap_tau((angle - arc.start_angle) * arc.sweep.signum());
     if rel <= sweep + ang_tol {
         Some((rel / sweep).min(1.0))
     } else if rel >= TAU - ang_tol {
@@ -219,7 +219,7 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
                 let mut n_cuts = 1;
                 let sweep = arc.sweep;
                 for k in [PI / 2.0, 3.0 * PI / 2.0] {
-                    let mut rel = ((k - arc.start_angle) * sweep.signum()).rem_euclid(TAU);
+                    let mut rel = wrap_tau((k - arc.start_angle) * sweep.signum());
                     while rel < sweep.abs() && n_cuts < 5 {
                         if rel > 0.0 {
                             cuts[n_cuts] = rel / sweep.abs();

@@ -64,6 +64,24 @@ impl Neg for Point {
     }
 }
 
+/// `x` reduced to [0, 2π). Angles here are within a few turns of zero, where adding or
+/// subtracting whole turns is exact enough and much cheaper than `rem_euclid` (a call to
+/// `fmod`); anything larger falls back to it.
+pub fn wrap_tau(x: f64) -> f64 {
+    if (-2.0 * TAU..2.0 * TAU).contains(&x) {
+        let mut v = x;
+        while v < 0.0 {
+            v += TAU;
+        }
+        while v >= TAU {
+            v -= TAU;
+        }
+        v
+    } else {
+        x.rem_euclid(TAU)
+    }
+}
+
 /// Axis-aligned bounding box.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BBox {
@@ -175,12 +193,15 @@ impl Arc {
         }
         // Included angle θ = 4·atan(b); radius r = c / (2·sin(θ/2)); the centre lies on the
         // chord's perpendicular bisector at distance r·cos(θ/2) (common practice).
+        // With b = tan(θ/4): sin(θ/2) = 2b/(1+b²) and cos(θ/2) = (1−b²)/(1+b²).
         let sweep = 4.0 * bulge.atan();
-        let half = sweep / 2.0;
-        let radius = c / (2.0 * half.sin().abs());
+        let one_b2 = 1.0 + bulge * bulge;
+        let sin_half = 2.0 * bulge / one_b2;
+        let cos_half = (1.0 - bulge * bulge) / one_b2;
+        let radius = c / (2.0 * sin_half.abs());
         // Offset from chord midpoint to centre, to the left of the chord for a positive bulge.
         let left = Point::new(-chord.y, chord.x) * (1.0 / c);
-        let offset = radius * half.cos() * sweep.signum();
+        let offset = radius * cos_half * sweep.signum();
         let center = (start + end) * 0.5 + left * offset;
         let start_angle = (start - center).y.atan2((start - center).x);
         Some(Arc {
@@ -212,7 +233,7 @@ impl Arc {
             return true;
         }
         let rel = (angle - self.start_angle) * self.sweep.signum();
-        rel.rem_euclid(TAU) <= self.sweep.abs()
+        wrap_tau(rel) <= self.sweep.abs()
     }
 
     pub fn reversed(&self) -> Arc {

@@ -60,7 +60,7 @@ impl fmt::Display for Handle {
 }
 
 /// Which entity a piece came from.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Origin {
     /// Entity type as written in the file, e.g. `LWPOLYLINE`.
     pub entity: &'static str,
