@@ -342,8 +342,20 @@ impl Nodes {
         let (cx, cy) = (fx.floor() as i64, fy.floor() as i64);
         let margin = self.join_gap / self.cell;
         let (rx, ry) = (fx - cx as f64, fy - cy as f64);
-        let dxs: &[i64] = if rx < margin { &[0, -1] } else if rx > 1.0 - margin { &[0, 1] } else { &[0] };
-        let dys: &[i64] = if ry < margin { &[0, -1] } else if ry > 1.0 - margin { &[0, 1] } else { &[0] };
+        let dxs: &[i64] = if rx < margin {
+            &[0, -1]
+        } else if rx > 1.0 - margin {
+            &[0, 1]
+        } else {
+            &[0]
+        };
+        let dys: &[i64] = if ry < margin {
+            &[0, -1]
+        } else if ry > 1.0 - margin {
+            &[0, 1]
+        } else {
+            &[0]
+        };
         let mut best: Option<(f64, u32)> = None;
         for &dx in dxs {
             for &dy in dys {

@@ -20,11 +20,13 @@ use super::segment::{BBox, Point};
 pub struct Profile {
     pub outer: Loop,
     pub holes: Vec<Loop>,
+    /// Bounding box of the outer loop (and so of the profile).
+    pub bbox: BBox,
 }
 
 impl Profile {
     pub fn bbox(&self) -> BBox {
-        self.outer.bbox()
+        self.bbox
     }
     pub fn loops(&self) -> impl Iterator<Item = &Loop> {
         std::iter::once(&self.outer).chain(self.holes.iter())
@@ -57,7 +59,7 @@ pub fn drop_crossing_loops(
             });
         }
     }
-    items.sort_by(|a, b| a.bbox.min.x.total_cmp(&b.bbox.min.x));
+    items.sort_unstable_by(|a, b| a.bbox.min.x.total_cmp(&b.bbox.min.x));
     // Distance along each loop to the start of each segment, and the loop's length last.
     let cum: Vec<Vec<f64>> = loops
         .iter()
@@ -88,7 +90,8 @@ pub fn drop_crossing_loops(
                 if it.sg == jt.sg {
                     continue;
                 }
-                if neighbours_only_share_their_vertex(l1.segments.len(), it.sg, jt.sg, s1, s2, tol) {
+                if neighbours_only_share_their_vertex(l1.segments.len(), it.sg, jt.sg, s1, s2, tol)
+                {
                     continue;
                 }
                 // Points of one loop that are close along the loop (a shared vertex, a
@@ -126,12 +129,12 @@ pub fn drop_crossing_loops(
             Some((at, true)) => problems.push(LoopProblem::SelfIntersection {
                 at,
                 bbox: l.bbox(),
-                origin: l.origin.clone(),
+                origin: l.origin,
             }),
             Some((at, false)) => problems.push(LoopProblem::LoopsCross {
                 at,
                 bbox: l.bbox(),
-                origin: l.origin.clone(),
+                origin: l.origin,
             }),
         }
     }
@@ -186,32 +189,38 @@ fn neighbours_only_share_their_vertex(
 /// little before and after `at` along the first segment lie on the same side of the second.
 fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> bool {
     use super::Segment;
-    match (s1, s2) {
-        (Segment::Line { .. }, Segment::Line { .. }) => false,
-        _ => {
-            // Distance from `at` to the second curve's circle or line, probed on either side
-            // along the first segment: a crossing changes the side.
-            let side = |p: Point| -> f64 {
-                match s2 {
-                    Segment::Line { a, b } => (*b - *a).cross(p - *a),
-                    Segment::Arc(arc) => p.dist(arc.center) - arc.radius,
-                }
-            };
-            let step = (10.0 * tol).max(1e-9);
-            let dir = match s1 {
-                Segment::Line { a, b } => {
-                    let d = *b - *a;
-                    d * (1.0 / d.norm())
-                }
-                Segment::Arc(arc) => {
-                    let v = at - arc.center;
-                    Point::new(-v.y, v.x) * (1.0 / v.norm())
-                }
-            };
-            let (before, after) = (side(at - dir * step), side(at + dir * step));
-            before * after > 0.0
-        }
+    if let (Segment::Line { .. }, Segment::Line { .. }) = (s1, s2) {
+        return false;
     }
+    // Signed distance from the second segment's line or circle.
+    let side = |p: Point| -> f64 {
+        match s2 {
+            Segment::Line { a, b } => {
+                let d = *b - *a;
+                d.cross(p - *a) / d.norm()
+            }
+            Segment::Arc(arc) => p.dist(arc.center) - arc.radius,
+        }
+    };
+    // Probe points on the first segment's own curve, a little before and after `at`.
+    let step = (10.0 * tol).max(1e-9);
+    let (before, after) = match s1 {
+        Segment::Line { a, b } => {
+            let d = *b - *a;
+            let u = d * (1.0 / d.norm());
+            (at - u * step, at + u * step)
+        }
+        Segment::Arc(arc) => {
+            let v = at - arc.center;
+            let ang = v.y.atan2(v.x);
+            let dang = step / arc.radius;
+            (
+                arc.center + Point::polar(ang - dang) * arc.radius,
+                arc.center + Point::polar(ang + dang) * arc.radius,
+            )
+        }
+    };
+    side(before) * side(after) > 0.0
 }
 
 /// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]).
@@ -227,7 +236,7 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
             problems.push(LoopProblem::ZeroArea {
                 bbox: bb,
-                origin: l.origin.clone(),
+                origin: l.origin,
             });
             continue;
         }
@@ -288,6 +297,7 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
                 profiles.push(Profile {
                     outer,
                     holes: Vec::new(),
+                    bbox: info[i].1,
                 });
             }
         }

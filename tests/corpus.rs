@@ -1,0 +1,180 @@
+//! Every drawing of the real-drawing corpus (`../shared/corpus/real/dxf`, written by many
+//! CAD programs and versions; see its MANIFEST.md) goes through the whole pipeline: each file
+//! yields rows, every error row says why, and nothing panics. The table pins today's counts
+//! so that a change in behaviour shows up here and gets looked at.
+
+use std::path::{Path, PathBuf};
+
+use sectio::analyze::Settings;
+use sectio::cli::batch::measure_file;
+
+fn corpus() -> Option<PathBuf> {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../shared/corpus/real/dxf");
+    dir.is_dir().then_some(dir)
+}
+
+/// (file, ok rows, error rows) with default settings.
+const EXPECTED: &[(&str, usize, usize)] = &[
+    ("ac1015_binary_text_only.dxf", 0, 1),
+    (
+        "ac1015_channel_profile_polyline_not_flagged_closed.dxf",
+        1,
+        0,
+    ),
+    ("ac1015_closed_rational_spline.dxf", 0, 1),
+    ("ac1015_concave_outline_with_hole.dxf", 1, 0),
+    ("ac1015_fan_plate_lines_arcs_circles.dxf", 1, 7),
+    ("ac1015_holes_touching_each_other.dxf", 1, 0),
+    ("ac1015_insert_transforms.dxf", 0, 6),
+    ("ac1015_plate_many_circular_holes.dxf", 22, 0),
+    ("ac1015_rotated_elliptic_arcs.dxf", 0, 1),
+    ("ac1015_self_intersecting_outline.dxf", 0, 1),
+    ("ac1015_t_part_lines_arcs.dxf", 3, 0),
+    ("ac1018_tslot_extrusion_profile_inch.dxf", 1, 0),
+    ("ac1021_closed_splines_cp1256_no_layouts.dxf", 0, 1),
+    ("ac1021_donut_bulge_polyline.dxf", 1, 0),
+    ("ac1021_spur_gear_outline.dxf", 1, 0),
+    ("ac1021_v_groove_extrusion_profile_20mm.dxf", 1, 0),
+    ("ac1024_entity_catalog_in_blocks.dxf", 29, 0),
+    ("ac1024_hatch_mixed_edge_boundary.dxf", 0, 1),
+    ("ac1024_hex_nut_top_view.dxf", 2, 0),
+    ("ac1024_rounded_contour_lines_arcs.dxf", 1, 0),
+    ("ac1027_closed_loop_from_lines_and_arcs.dxf", 0, 1),
+    ("ac1027_dimensions_in_nested_blocks.dxf", 0, 1),
+    ("ac1027_flange_drawing_with_dimensions.dxf", 2, 19),
+    ("ac1027_mirrored_nested_block_inserts.dxf", 0, 1),
+    ("ac1027_nested_inserts_one_level.dxf", 6, 0),
+    ("ac1027_nesting_parts_closed_polylines.dxf", 9, 0),
+    ("ac1027_projected_grid_huge_coordinates.dxf", 1, 0),
+    ("ac1027_proxy_objects_cjk_strings.dxf", 0, 1),
+    ("ac1027_utf8_layer_name_no_entities.dxf", 0, 1),
+    ("ac1032_arc_negative_extrusion_angle_over_360.dxf", 0, 1),
+    ("ac1032_binary_mixed_entities.dxf", 0, 1),
+    ("ac1032_dynamic_block_flip.dxf", 0, 1),
+    ("ac1032_georeferenced_outline_large_coordinates.dxf", 1, 0),
+    ("ac1032_hatches_with_polyline_boundaries.dxf", 10, 0),
+    ("ac1032_shapes_polylines_circles_ellipses.dxf", 22, 0),
+    ("ac1032_text_negative_extrusion_with_outlines.dxf", 63, 21),
+    ("ac1032_uncommon_entities_mix.dxf", 2, 4),
+    ("bad_blocks_section_only_fragment.dxf", 0, 1),
+    ("bad_decimal_comma_numbers.dxf", 0, 1),
+    ("bad_missing_header_needs_recovery.dxf", 0, 1),
+    ("bad_trailing_garbage_after_eof.dxf", 1, 0),
+    ("degenerate_circles_zero_negative_radius.dxf", 0, 1),
+    ("minimal_single_line_entities_only.dxf", 0, 1),
+    ("r10_ac1006_entity_sampler.dxf", 2, 0),
+    ("r12_binary_3d_diamond_lines.dxf", 0, 1),
+    ("r12_entity_sampler_ascii.dxf", 17, 0),
+    ("r12_entity_sampler_binary.dxf", 17, 0),
+    ("r12_headerless_arc_negative_extrusion.dxf", 0, 1),
+    ("r12_laser_rangefinder_floor_sketch.dxf", 0, 1),
+    ("r12_polyline_variants_uppercase_ext.DXF", 0, 1),
+    ("r13_ac1012_footprint_polylines_dos932.dxf", 0, 4),
+    ("r13_binary_lines.dxf", 0, 1),
+    ("r14_ac1014_mixed_entities_blocks.dxf", 0, 1),
+    ("r14_ac1014_splines_polylines.dxf", 0, 1),
+    ("r1_4_comma_separated_legacy_format.dxf", 0, 1),
+    ("r2_10_entity_sampler.dxf", 1, 0),
+    ("r2_6_ac1003_lines_arcs.dxf", 0, 1),
+];
+
+#[test]
+fn every_corpus_drawing_yields_rows_and_nothing_panics() {
+    let Some(dir) = corpus() else {
+        eprintln!("../shared/corpus/real/dxf not found: corpus test skipped");
+        return;
+    };
+    let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .expect("corpus folder readable")
+        .map(|e| e.expect("entry").path())
+        .filter(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("dxf")))
+        .collect();
+    files.sort();
+    assert_eq!(
+        files.len(),
+        EXPECTED.len(),
+        "the corpus changed: update the table"
+    );
+    let settings = Settings::default();
+    let mut mismatches = Vec::new();
+    for (path, &(name, ok, err)) in files.iter().zip(EXPECTED) {
+        assert_eq!(path.file_name().unwrap().to_string_lossy(), name);
+        let rows = measure_file(path, &settings);
+        assert!(!rows.is_empty(), "{name}: no row");
+        for r in &rows {
+            if let Err(msg) = &r.outcome.result {
+                assert!(!msg.is_empty(), "{name}: error row without a message");
+                assert!(!msg.contains("internal error"), "{name}: {msg}");
+            }
+        }
+        let n_ok = rows.iter().filter(|r| r.outcome.result.is_ok()).count();
+        if (n_ok, rows.len() - n_ok) != (ok, err) {
+            mismatches.push(format!(
+                "{name}: expected {ok} ok / {err} error, got {n_ok} / {}",
+                rows.len() - n_ok
+            ));
+        }
+    }
+    assert!(mismatches.is_empty(), "{}", mismatches.join("\n"));
+}
+
+#[test]
+fn ascii_and_binary_twins_give_the_same_rows() {
+    let Some(dir) = corpus() else {
+        return;
+    };
+    let settings = Settings::default();
+    let a = measure_file(&dir.join("r12_entity_sampler_ascii.dxf"), &settings);
+    let b = measure_file(&dir.join("r12_entity_sampler_binary.dxf"), &settings);
+    assert_eq!(a.len(), b.len());
+    // ASCII carries the numbers in decimal (about 16 digits), binary as exact doubles: the
+    // same geometry, so the same results to rounding.
+    let close = |u: f64, v: f64| (u - v).abs() <= 1e-12 * u.abs().max(v.abs()).max(1.0);
+    for (x, y) in a.iter().zip(&b) {
+        assert_eq!(x.outcome.layer, y.outcome.layer);
+        match (&x.outcome.result, &y.outcome.result) {
+            (Ok(p), Ok(q)) => {
+                for (u, v) in [
+                    (p.area, q.area),
+                    (p.centroid.x, q.centroid.x),
+                    (p.centroid.y, q.centroid.y),
+                    (p.ixx, q.ixx),
+                    (p.iyy, q.iyy),
+                    (p.perimeter, q.perimeter),
+                ] {
+                    assert!(close(u, v), "{u} vs {v}");
+                }
+                assert!(
+                    (p.ixy - q.ixy).abs() <= 1e-12 * p.i1,
+                    "{} vs {}",
+                    p.ixy,
+                    q.ixy
+                );
+                assert_eq!(p.n_holes, q.n_holes);
+            }
+            (Err(e), Err(f)) => assert_eq!(e, f),
+            (u, v) => panic!("ASCII gave {u:?}, binary {v:?}"),
+        }
+    }
+}
+
+#[test]
+fn a_far_away_outline_keeps_its_precision() {
+    // Projected map coordinates around (2 867 612, 1 480 658): the profile must come out with
+    // a positive area and finite, consistent moments (principal values bracket ixx and iyy).
+    let Some(dir) = corpus() else {
+        return;
+    };
+    let rows = measure_file(
+        &dir.join("ac1027_projected_grid_huge_coordinates.dxf"),
+        &Settings::default(),
+    );
+    let p = rows[0].outcome.result.as_ref().expect("ok");
+    assert!(p.area > 0.0 && p.ixx > 0.0 && p.iyy > 0.0);
+    assert!(p.i1 >= p.ixx.max(p.iyy) * (1.0 - 1e-12) && p.i2 <= p.ixx.min(p.iyy) * (1.0 + 1e-12));
+    assert!(
+        p.centroid.x > 2.8e6 && p.centroid.y > 1.4e6,
+        "{:?}",
+        p.centroid
+    );
+}
