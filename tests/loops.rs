@@ -271,3 +271,16 @@ fn fillets_smaller_than_the_gap_are_not_self_intersections() {
     let s = out[1].result.as_ref().expect("ok");
     assert_eq!(s.n_holes, 1);
 }
+
+#[test]
+fn a_hole_tangent_to_the_outline_touches_but_does_not_cross() {
+    // Square 10 × 10 with an inscribed circular hole touching all four sides.
+    let out = measure(vec![
+        closed(rect(0.0, 0.0, 10.0, 10.0)),
+        closed(circle(5.0, 5.0, 5.0)),
+    ]);
+    assert_eq!(out.len(), 1, "{out:#?}");
+    let s = out[0].result.as_ref().expect("tangent loops are fine");
+    assert_eq!(s.n_holes, 1);
+    assert_close!(s.area, 100.0 - 25.0 * PI, rel = 1e-13);
+}
