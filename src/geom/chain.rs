@@ -246,7 +246,16 @@ fn seg_key(s: &Segment, q: f64) -> SegKey {
     let cell = |p: Point| (round(p.x / q), round(p.y / q));
     let (a, b) = (cell(s.start()), cell(s.end()));
     let (a, b) = if a <= b { (a, b) } else { (b, a) };
-    [a, b, cell(s.midpoint())]
+    // Lines are told apart by their ends; arcs also by their centre and the size of their
+    // sweep (direction-free), which needs no trigonometry.
+    let third = match s {
+        Segment::Line { .. } => (0, 0),
+        Segment::Arc(arc) => {
+            let c = cell(arc.center);
+            (c.0, c.1 ^ round(arc.sweep.abs() * 1e9))
+        }
+    };
+    [a, b, third]
 }
 
 /// A small, fast hasher for integer keys (the multiply-rotate scheme of Firefox's and
@@ -281,22 +290,29 @@ pub(crate) type FastBuild = std::hash::BuildHasherDefault<FastHasher>;
 pub(crate) type FastMap<K, V> = HashMap<K, V, FastBuild>;
 
 /// Make a loop from segments that already form a closed run, bridging tiny gaps.
-fn close_up(mut segments: Vec<Segment>, layer: LayerName, origin: Origin) -> Loop {
-    let mut out = Vec::with_capacity(segments.len() + 1);
-    let first = segments[0].start();
-    for s in segments.drain(..) {
-        if let Some(prev) = out.last().map(Segment::end) {
-            if prev != s.start() && prev.dist(s.start()) > 0.0 {
-                out.push(Segment::line(prev, s.start()));
+fn close_up(segments: Vec<Segment>, layer: LayerName, origin: Origin) -> Loop {
+    let connected = segments.windows(2).all(|w| w[0].end() == w[1].start());
+    let mut out = if connected {
+        segments
+    } else {
+        let mut out: Vec<Segment> = Vec::with_capacity(segments.len() + 1);
+        for s in segments {
+            if let Some(prev) = out.last().map(Segment::end) {
+                if prev != s.start() {
+                    out.push(Segment::line(prev, s.start()));
+                }
             }
+            out.push(s);
         }
-        out.push(s);
-    }
+        out
+    };
     // Close the run: a bridge of at most `join_gap` for chained loops, or the closing edge a
     // closed entity implies when its stored ends differ.
-    let last = out.last().map(Segment::end).unwrap_or(first);
-    if last != first {
-        out.push(Segment::line(last, first));
+    if let (Some(first), Some(last)) = (out.first(), out.last()) {
+        let (first, last) = (first.start(), last.end());
+        if last != first {
+            out.push(Segment::line(last, first));
+        }
     }
     Loop {
         segments: out,
