@@ -80,21 +80,22 @@ pub fn run_batch(
 /// All rows of one file; never panics.
 pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
     let file = path.display().to_string();
-    let outcomes = match std::fs::read(path) {
+    let analyzed = with_file_bytes(path, |bytes| {
+        catch_unwind(AssertUnwindSafe(|| analyze_drawing(bytes, settings)))
+    });
+    let outcomes = match analyzed {
         Err(e) => vec![file_error(format!("cannot read file: {e}"))],
-        Ok(bytes) => match catch_unwind(AssertUnwindSafe(|| analyze_drawing(&bytes, settings))) {
-            Ok(o) => o,
-            Err(payload) => {
-                let what = payload
-                    .downcast_ref::<&str>()
-                    .map(|s| s.to_string())
-                    .or_else(|| payload.downcast_ref::<String>().cloned())
-                    .unwrap_or_else(|| "unknown panic".to_string());
-                vec![file_error(format!(
-                    "internal error ({what}); this is a bug in sectio: please report it with the drawing"
-                ))]
-            }
-        },
+        Ok(Ok(o)) => o,
+        Ok(Err(payload)) => {
+            let what = payload
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| payload.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "unknown panic".to_string());
+            vec![file_error(format!(
+                "internal error ({what}); this is a bug in sectio: please report it with the drawing"
+            ))]
+        }
     };
     outcomes
         .into_iter()
@@ -103,6 +104,23 @@ pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
             outcome,
         })
         .collect()
+}
+
+thread_local! {
+    /// Each worker thread reads its files into one buffer that only grows, instead of
+    /// allocating (and touching fresh pages for) a new one per file.
+    static READ_BUFFER: std::cell::RefCell<Vec<u8>> = const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// Run `f` on the bytes of the file at `path`, read into this thread's reusable buffer.
+fn with_file_bytes<R>(path: &Path, f: impl FnOnce(&[u8]) -> R) -> std::io::Result<R> {
+    use std::io::Read;
+    let mut buf = READ_BUFFER.with(|c| std::mem::take(&mut *c.borrow_mut()));
+    buf.clear();
+    let read = std::fs::File::open(path).and_then(|mut file| file.read_to_end(&mut buf));
+    let out = read.map(|_| f(&buf));
+    READ_BUFFER.with(|c| *c.borrow_mut() = buf);
+    out
 }
 
 fn file_error(msg: String) -> Outcome {
