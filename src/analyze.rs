@@ -107,7 +107,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         .pieces
         .iter()
         .flat_map(|p| p.segments.iter())
-        .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()))
+        .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()))
         .diagonal();
     let join_gap = settings
         .join_gap

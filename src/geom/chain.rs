@@ -165,8 +165,8 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
     let mut out = Chained::default();
     let q = join_gap.max(f64::MIN_POSITIVE);
     // Whole entities drawn twice (either way round) are dropped. A direction-free
-    // fingerprint (count and wrapping sum of hashed segment keys) finds candidates; the
-    // sorted keys confirm them, so a fingerprint collision never drops a loop.
+    // fingerprint (segment count and box) finds candidates; the sorted segment keys confirm
+    // them, so a fingerprint collision never drops a loop.
     let mut seen: FastMap<(usize, u64, bool), Vec<usize>> = FastMap::default();
     let mut meta: Vec<Meta> = Vec::with_capacity(pieces.len());
     let mut store: Vec<(Vec<Segment>, bool, usize)> = Vec::with_capacity(pieces.len());
@@ -182,11 +182,15 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
         if kept.is_empty() {
             continue;
         }
-        let sum = kept.iter().fold(0u64, |acc, s| {
+        // Fingerprint: the run's box, quantised like the keys; cheap, and equal for twins.
+        let bb = kept
+            .iter()
+            .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()));
+        let sum = {
             let mut h = FastHasher::default();
-            seg_key(s, q).hash(&mut h);
-            acc.wrapping_add(h.finish())
-        });
+            seg_key(&Segment::line(bb.min, bb.max), q).hash(&mut h);
+            h.finish()
+        };
         let same = seen.entry((kept.len(), sum, piece.closed)).or_default();
         if !same.is_empty() {
             let mine = sorted_keys(&kept);

@@ -36,9 +36,11 @@ impl Profile {
 /// Remove loops that cross themselves or each other, reporting each as a problem.
 ///
 /// Points of one loop less than four tolerances apart along the loop (a shared vertex, a tiny
-/// fillet) are not crossings; two different loops
-/// that only touch (at a segment end of either) are allowed, since the regions they bound
-/// still do not overlap.
+/// fillet) are not crossings; two different loops that only touch (at a segment end of
+/// either, or tangentially) are allowed, since the regions they bound still do not overlap.
+///
+/// Candidate pairs come from a uniform grid over the segments' boxes (cells about as many as
+/// segments), so the work grows with the number of segments, not its square.
 pub fn drop_crossing_loops(
     loops: Vec<Loop>,
     tol: f64,
@@ -49,54 +51,49 @@ pub fn drop_crossing_loops(
         sg: u32,
         bbox: BBox,
     }
-    let mut items: Vec<Item> = Vec::new();
+    let n_items: usize = loops.iter().map(|l| l.segments.len()).sum();
+    let mut items: Vec<Item> = Vec::with_capacity(n_items);
+    let mut all = BBox::EMPTY;
     for (li, l) in loops.iter().enumerate() {
         for (si, s) in l.segments.iter().enumerate() {
+            let bbox = s.loose_bbox();
+            all = all.union(&bbox);
             items.push(Item {
                 lp: li as u32,
                 sg: si as u32,
-                bbox: s.bbox(),
+                bbox,
             });
         }
     }
-    items.sort_unstable_by(|a, b| a.bbox.min.x.total_cmp(&b.bbox.min.x));
-    // Distance along each loop to the start of each segment, and the loop's length last.
-    let cum: Vec<Vec<f64>> = loops
-        .iter()
-        .map(|l| {
-            let mut c = Vec::with_capacity(l.segments.len() + 1);
-            let mut acc = 0.0;
-            c.push(acc);
-            for s in &l.segments {
-                acc += s.length();
-                c.push(acc);
-            }
-            c
-        })
-        .collect();
     let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()]; // (where, self?)
-    let mut active: Vec<usize> = Vec::new();
-    for i in 0..items.len() {
-        let it = &items[i];
-        active.retain(|&j| items[j].bbox.max.x >= it.bbox.min.x - tol);
-        for &j in &active {
-            let jt = &items[j];
+    if items.len() >= 2 && all.min.is_finite() && all.max.is_finite() {
+        let grid = SegmentGrid::new(&all, items.iter().map(|it| it.bbox), tol);
+        // Distance along each loop to the start of each segment and the loop's length
+        // last, computed for a loop only when one of its segments meets a non-neighbour.
+        let mut cum: Vec<Option<Vec<f64>>> = vec![None; loops.len()];
+        grid.for_each_pair(|i, j| {
+            let (it, jt) = (&items[i as usize], &items[j as usize]);
             if !it.bbox.overlaps(&jt.bbox, tol) {
-                continue;
+                return;
             }
             let (l1, l2) = (&loops[it.lp as usize], &loops[jt.lp as usize]);
             let (s1, s2) = (&l1.segments[it.sg as usize], &l2.segments[jt.sg as usize]);
             if it.lp == jt.lp {
-                if it.sg == jt.sg {
-                    continue;
-                }
-                if neighbours_only_share_their_vertex(l1.segments.len(), it.sg, jt.sg, s1, s2, tol)
+                if it.sg == jt.sg
+                    || neighbours_only_share_their_vertex(
+                        l1.segments.len(),
+                        it.sg,
+                        jt.sg,
+                        s1,
+                        s2,
+                        tol,
+                    )
                 {
-                    continue;
+                    return;
                 }
                 // Points of one loop that are close along the loop (a shared vertex, a
                 // fillet shorter than the tolerance) are neighbours, not a crossing.
-                let c = &cum[it.lp as usize];
+                let c = cum[it.lp as usize].get_or_insert_with(|| along_loop(l1));
                 let total = c[c.len() - 1];
                 for h in intersections(s1, s2, tol) {
                     let along = |sg: u32, t: f64| {
@@ -119,8 +116,7 @@ pub fn drop_crossing_loops(
                     }
                 }
             }
-        }
-        active.push(i);
+        });
     }
     let mut kept = Vec::with_capacity(loops.len());
     for (l, b) in loops.into_iter().zip(bad) {
@@ -139,6 +135,158 @@ pub fn drop_crossing_loops(
         }
     }
     kept
+}
+
+/// Distance along a loop to the start of each segment, and the loop's length last.
+fn along_loop(l: &Loop) -> Vec<f64> {
+    let mut c = Vec::with_capacity(l.segments.len() + 1);
+    let mut acc = 0.0;
+    c.push(acc);
+    for s in &l.segments {
+        acc += s.length();
+        c.push(acc);
+    }
+    c
+}
+
+/// A uniform grid over segment boxes for finding pairs whose boxes may overlap.
+///
+/// Each box is listed in every cell it covers (boxes grown by `tol`); a box covering very
+/// many cells (a long line across a sheet) is kept in a separate list and paired with every
+/// other box instead. A pair met in several cells is reported once: in the cell holding the
+/// lower-left corner of the two boxes' overlap.
+struct SegmentGrid {
+    origin: Point,
+    inv_cell: f64,
+    nx: usize,
+    ny: usize,
+    /// Items of cell k: `members[start[k]..start[k + 1]]`.
+    start: Vec<u32>,
+    members: Vec<u32>,
+    boxes: Vec<BBox>,
+    big: Vec<u32>,
+    /// Position in `big` plus one, or 0 for a box listed in the cells.
+    big_rank: Vec<u32>,
+}
+
+impl SegmentGrid {
+    /// Cells per side at most, and cells one box may cover before it counts as big.
+    const MAX_SIDE: usize = 4096;
+    const MAX_COVER: usize = 64;
+
+    fn new(all: &BBox, boxes: impl Iterator<Item = BBox>, tol: f64) -> SegmentGrid {
+        let boxes: Vec<BBox> = boxes
+            .map(|b| BBox {
+                min: Point::new(b.min.x - tol, b.min.y - tol),
+                max: Point::new(b.max.x + tol, b.max.y + tol),
+            })
+            .collect();
+        let n = boxes.len();
+        let (w, h) = (all.width() + 2.0 * tol, all.height() + 2.0 * tol);
+        // About one cell per box, square cells.
+        let cell = ((w * h) / n as f64)
+            .sqrt()
+            .max(w / Self::MAX_SIDE as f64)
+            .max(h / Self::MAX_SIDE as f64);
+        let cell = if cell > 0.0 && cell.is_finite() {
+            cell
+        } else {
+            w.max(h).max(1.0)
+        };
+        let inv_cell = 1.0 / cell;
+        let nx = ((w * inv_cell) as usize + 1).min(Self::MAX_SIDE);
+        let ny = ((h * inv_cell) as usize + 1).min(Self::MAX_SIDE);
+        let mut grid = SegmentGrid {
+            origin: Point::new(all.min.x - tol, all.min.y - tol),
+            inv_cell,
+            nx,
+            ny,
+            start: vec![0; nx * ny + 1],
+            members: Vec::new(),
+            boxes,
+            big: Vec::new(),
+            big_rank: vec![0; n],
+        };
+        // Two passes: count, then fill (a counting sort by cell).
+        let mut big = Vec::new();
+        for (i, b) in grid.boxes.iter().enumerate() {
+            let (x0, y0, x1, y1) = grid.span(b);
+            if (x1 - x0 + 1) * (y1 - y0 + 1) > Self::MAX_COVER {
+                big.push(i as u32);
+                continue;
+            }
+            for y in y0..=y1 {
+                for x in x0..=x1 {
+                    grid.start[y * nx + x + 1] += 1;
+                }
+            }
+        }
+        for k in 0..nx * ny {
+            grid.start[k + 1] += grid.start[k];
+        }
+        let mut fill = grid.start.clone();
+        grid.members = vec![0; grid.start[nx * ny] as usize];
+        for (r, &i) in big.iter().enumerate() {
+            grid.big_rank[i as usize] = r as u32 + 1;
+        }
+        for (i, b) in grid.boxes.iter().enumerate() {
+            if grid.big_rank[i] != 0 {
+                continue;
+            }
+            let (x0, y0, x1, y1) = grid.span(b);
+            for y in y0..=y1 {
+                for x in x0..=x1 {
+                    let k = y * nx + x;
+                    grid.members[fill[k] as usize] = i as u32;
+                    fill[k] += 1;
+                }
+            }
+        }
+        grid.big = big;
+        grid
+    }
+
+    fn cell_of(&self, p: Point) -> (usize, usize) {
+        let f = |v: f64, o: f64, n: usize| (((v - o) * self.inv_cell).max(0.0) as usize).min(n - 1);
+        (
+            f(p.x, self.origin.x, self.nx),
+            f(p.y, self.origin.y, self.ny),
+        )
+    }
+
+    fn span(&self, b: &BBox) -> (usize, usize, usize, usize) {
+        let (x0, y0) = self.cell_of(b.min);
+        let (x1, y1) = self.cell_of(b.max);
+        (x0, y0, x1, y1)
+    }
+
+    /// Call `f(i, j)` once for every pair of boxes that share a cell (or involve a big box).
+    fn for_each_pair(&self, mut f: impl FnMut(u32, u32)) {
+        for y in 0..self.ny {
+            for x in 0..self.nx {
+                let k = y * self.nx + x;
+                let cell = &self.members[self.start[k] as usize..self.start[k + 1] as usize];
+                for (a, &i) in cell.iter().enumerate() {
+                    for &j in &cell[a + 1..] {
+                        let (bi, bj) = (&self.boxes[i as usize], &self.boxes[j as usize]);
+                        let corner = Point::new(bi.min.x.max(bj.min.x), bi.min.y.max(bj.min.y));
+                        if self.cell_of(corner) == (x, y) {
+                            f(i, j);
+                        }
+                    }
+                }
+            }
+        }
+        for (a, &i) in self.big.iter().enumerate() {
+            for j in 0..self.boxes.len() as u32 {
+                // A big box with every small one; two big boxes once (the later one asks).
+                let rank = self.big_rank[j as usize] as usize;
+                if rank == 0 || rank <= a {
+                    f(i, j);
+                }
+            }
+        }
+    }
 }
 
 /// Fast path: two neighbours in a loop of three or more segments, where a line is one of

@@ -247,6 +247,24 @@ impl Arc {
         }
     }
 
+    /// A box that surely holds the arc, cheaply (no angles): an arc of at most a half turn
+    /// lies within the circle on its chord as diameter (Thales' theorem); a longer one within
+    /// its own circle.
+    pub fn loose_bbox(&self) -> BBox {
+        let (c, r) = if self.sweep.abs() <= PI {
+            (
+                (self.start + self.end) * 0.5,
+                self.start.dist(self.end) * 0.5,
+            )
+        } else {
+            (self.center, self.radius)
+        };
+        BBox {
+            min: Point::new(c.x - r, c.y - r),
+            max: Point::new(c.x + r, c.y + r),
+        }
+    }
+
     pub fn bbox(&self) -> BBox {
         let mut b = BBox::EMPTY;
         b.add_point(self.start);
@@ -305,6 +323,17 @@ impl Segment {
                 bb
             }
             Segment::Arc(arc) => arc.bbox(),
+        }
+    }
+    /// A box that surely holds the segment: exact for lines, cheap and a little larger for
+    /// arcs (see [`Arc::loose_bbox`]). For searches, not for reported extents.
+    pub fn loose_bbox(&self) -> BBox {
+        match self {
+            Segment::Line { a, b } => BBox {
+                min: Point::new(a.x.min(b.x), a.y.min(b.y)),
+                max: Point::new(a.x.max(b.x), a.y.max(b.y)),
+            },
+            Segment::Arc(arc) => arc.loose_bbox(),
         }
     }
     /// The point halfway along the segment.
