@@ -11,7 +11,7 @@
 use std::collections::HashMap;
 
 use super::chain::{FastMap, Loop, LoopProblem};
-use super::moments::signed_area;
+use super::moments::{loop_moments, Moments};
 use super::predicates::{intersections, winding_number};
 use super::segment::{BBox, Point};
 
@@ -22,6 +22,8 @@ pub struct Profile {
     pub holes: Vec<Loop>,
     /// Bounding box of the outer loop (and so of the profile).
     pub bbox: BBox,
+    /// Area integrals of the profile (outer loop less holes) about the centre of `bbox`.
+    pub moments: Moments,
 }
 
 impl Profile {
@@ -374,12 +376,15 @@ fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> 
 /// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]).
 /// Loops with no area become problems.
 pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profile> {
-    // Signed areas about each loop's own box centre, for precision far from the origin.
+    // Area integrals about each loop's own box centre, for precision far from the origin;
+    // their signed area gives the direction, and the profiles reuse them.
     let mut info: Vec<(f64, BBox)> = Vec::with_capacity(loops.len());
+    let mut moments: Vec<Moments> = Vec::with_capacity(loops.len());
     let mut keep = Vec::with_capacity(loops.len());
     for l in loops.drain(..) {
         let bb = l.bbox();
-        let area = signed_area(&l.segments, bb.center());
+        let m = loop_moments(&l.segments, bb.center());
+        let area = m.a;
         // A loop with no area: below rounding noise for its size (common practice).
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
             problems.push(LoopProblem::ZeroArea {
@@ -389,14 +394,20 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
             continue;
         }
         info.push((area, bb));
+        moments.push(m);
         keep.push(l);
     }
     let mut loops = keep;
     // Make every loop counter-clockwise for now; holes are turned round below.
-    for (l, (area, _)) in loops.iter_mut().zip(info.iter_mut()) {
+    for ((l, (area, _)), m) in loops
+        .iter_mut()
+        .zip(info.iter_mut())
+        .zip(moments.iter_mut())
+    {
         if *area < 0.0 {
             l.reverse();
             *area = -*area;
+            *m = *m * -1.0;
         }
     }
     // Largest first: a container is always larger than what it holds.
@@ -442,10 +453,12 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
             // `slots[i]` is taken exactly once, here or as a hole below.
             if let Some(outer) = slots[i].take() {
                 profile_of.insert(i, profiles.len());
+                let bbox = info[i].1;
                 profiles.push(Profile {
                     outer,
                     holes: Vec::new(),
-                    bbox: info[i].1,
+                    bbox,
+                    moments: moments[i],
                 });
             }
         }
@@ -455,6 +468,10 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
             if let (Some(p), Some(mut hole)) = (parent[i], slots[i].take()) {
                 hole.reverse();
                 if let Some(&k) = profile_of.get(&p) {
+                    // The hole's integrals, turned clockwise and moved to the profile's origin.
+                    let d = profiles[k].bbox.center() - info[i].1.center();
+                    let m = (moments[i] * -1.0).shifted(d);
+                    profiles[k].moments += m;
                     profiles[k].holes.push(hole);
                 }
             }

@@ -1,6 +1,5 @@
 //! Geometric section properties of one profile (or of several merged into one section).
 
-use crate::geom::moments::loop_moments;
 use crate::geom::{BBox, Moments, Point, Profile, Segment};
 
 /// Properties of a cross-section, in millimetres. Axes and signs:
@@ -70,13 +69,14 @@ pub fn principal(ixx: f64, iyy: f64, ixy: f64) -> (f64, f64, f64) {
 /// Properties of the union of `profiles` (one profile, or all of a file when merged).
 pub fn section_props(profiles: &[&Profile]) -> SectionProps {
     let bbox = profiles.iter().fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
-    // Integrate about a point near the section: full precision far from the drawing origin.
+    // Integrals about a point near the section: full precision far from the drawing origin.
+    // Each profile's were taken about its own box centre; moving them is exact algebra.
     let origin = bbox.center();
     let mut m = Moments::default();
     let (mut perimeter, mut perimeter_outer, mut n_holes) = (0.0, 0.0, 0);
     for p in profiles {
+        m += p.moments.shifted(origin - p.bbox.center());
         for l in p.loops() {
-            m += loop_moments(&l.segments, origin);
             perimeter += length(&l.segments);
         }
         perimeter_outer += length(&p.outer.segments);
