@@ -167,7 +167,9 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
     // Whole entities drawn twice (either way round) are dropped. A direction-free
     // fingerprint (segment count and box) finds candidates; the sorted segment keys confirm
     // them, so a fingerprint collision never drops a loop.
-    let mut seen: FastMap<(usize, u64, bool), Vec<usize>> = FastMap::default();
+    // First run stored under each fingerprint; further runs with it follow through `next_same`.
+    let mut seen: FastMap<(usize, u64, bool), u32> = FastMap::default();
+    let mut next_same: Vec<u32> = Vec::with_capacity(pieces.len());
     let mut meta: Vec<Meta> = Vec::with_capacity(pieces.len());
     let mut store: Vec<(Vec<Segment>, bool, usize)> = Vec::with_capacity(pieces.len());
     let sorted_keys = |segs: &[Segment]| {
@@ -191,15 +193,22 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
             seg_key(&Segment::line(bb.min, bb.max), q).hash(&mut h);
             h.finish()
         };
-        let same = seen.entry((kept.len(), sum, piece.closed)).or_default();
-        if !same.is_empty() {
+        let head = seen.entry((kept.len(), sum, piece.closed)).or_insert(NONE);
+        if *head != NONE {
             let mine = sorted_keys(&kept);
-            if same.iter().any(|&k| sorted_keys(&store[k].0) == mine) {
+            let mut k = *head;
+            let mut twin = false;
+            while k != NONE && !twin {
+                twin = sorted_keys(&store[k as usize].0) == mine;
+                k = next_same[k as usize];
+            }
+            if twin {
                 out.duplicates += 1;
                 continue;
             }
         }
-        same.push(store.len());
+        next_same.push(*head);
+        *head = store.len() as u32;
         store.push((kept, piece.closed, pi));
     }
     let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
@@ -223,8 +232,14 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
     let mut relink = false;
     for read in 0..segments.len() {
         let s = segments[read];
-        let full = matches!(s, Segment::Arc(a) if a.is_full_circle());
-        if !full && (s.length() <= join_gap || !s.is_finite()) {
+        let tiny = match &s {
+            Segment::Line { a, b } => {
+                let d = *b - *a;
+                d.dot(d) <= join_gap * join_gap
+            }
+            Segment::Arc(arc) => !arc.is_full_circle() && arc.length() <= join_gap,
+        };
+        if tiny || !s.is_finite() {
             *dropped += 1;
             relink = true;
             continue;

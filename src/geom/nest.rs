@@ -326,8 +326,10 @@ fn neighbours_only_share_their_vertex(
     };
     match (first, second) {
         (Segment::Line { a, b }, Segment::Line { a: c, b: d }) => {
+            // Not parallel (sine of the angle above 1e-9), or pointing on, not back.
             let (u, v) = (*b - *a, *d - *c);
-            u.cross(v).abs() > 1e-9 * u.norm() * v.norm() || u.dot(v) > 0.0
+            let cross = u.cross(v);
+            cross * cross > 1e-18 * u.dot(u) * v.dot(v) || u.dot(v) > 0.0
         }
         (Segment::Line { a, b }, Segment::Arc(arc)) => other_crossing_beyond(*b, *a, arc.center),
         (Segment::Arc(arc), Segment::Line { a, b }) => other_crossing_beyond(*a, *b, arc.center),
