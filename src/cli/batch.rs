@@ -132,3 +132,37 @@ fn file_error(msg: String) -> Outcome {
         message: String::new(),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn folders_are_searched_recursively_for_dxf_in_any_case_and_sorted() {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let sub = dir.path().join("b").join("deeper");
+        std::fs::create_dir_all(&sub).expect("folders");
+        for name in [
+            "z.dxf",
+            "A.DXF",
+            "b/m.Dxf",
+            "b/deeper/c.dxf",
+            "notes.txt",
+            "b/x.dwg",
+        ] {
+            std::fs::write(dir.path().join(name), b"").expect("file");
+        }
+        let files =
+            collect_files(&[dir.path().to_path_buf(), dir.path().join("z.dxf")]).expect("walk");
+        let names: Vec<String> = files
+            .iter()
+            .map(|p| {
+                p.strip_prefix(dir.path())
+                    .unwrap()
+                    .to_string_lossy()
+                    .replace('\\', "/")
+            })
+            .collect();
+        assert_eq!(names, ["A.DXF", "b/deeper/c.dxf", "b/m.Dxf", "z.dxf"]);
+    }
+}
