@@ -13,7 +13,7 @@ use std::collections::HashMap;
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
 use super::predicates::{intersections, winding_number};
-use super::segment::{BBox, Point};
+use super::segment::{BBox, Point, Segment};
 
 /// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
 #[derive(Debug, Clone, PartialEq)]
@@ -70,9 +70,6 @@ pub fn drop_crossing_loops(
     let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()]; // (where, self?)
     if items.len() >= 2 && all.min.is_finite() && all.max.is_finite() {
         let grid = SegmentGrid::new(&all, items.iter().map(|it| it.bbox), tol);
-        // Distance along each loop to the start of each segment and the loop's length
-        // last, computed for a loop only when one of its segments meets a non-neighbour.
-        let mut cum: Vec<Option<Vec<f64>>> = vec![None; loops.len()];
         grid.for_each_pair(|i, j| {
             let (it, jt) = (&items[i as usize], &items[j as usize]);
             if !it.bbox.overlaps(&jt.bbox, tol) {
@@ -95,15 +92,8 @@ pub fn drop_crossing_loops(
                 }
                 // Points of one loop that are close along the loop (a shared vertex, a
                 // fillet shorter than the tolerance) are neighbours, not a crossing.
-                let c = cum[it.lp as usize].get_or_insert_with(|| along_loop(l1));
-                let total = c[c.len() - 1];
                 for h in intersections(s1, s2, tol) {
-                    let along = |sg: u32, t: f64| {
-                        let k = sg as usize;
-                        c[k] + t * (c[k + 1] - c[k])
-                    };
-                    let d = (along(it.sg, h.t1) - along(jt.sg, h.t2)).abs();
-                    if d.min(total - d) > 4.0 * tol {
+                    if !close_along_loop(&l1.segments, (it.sg, h.t1), (jt.sg, h.t2), 4.0 * tol) {
                         bad[it.lp as usize].get_or_insert((h.at, true));
                     }
                 }
@@ -139,16 +129,38 @@ pub fn drop_crossing_loops(
     kept
 }
 
-/// Distance along a loop to the start of each segment, and the loop's length last.
-fn along_loop(l: &Loop) -> Vec<f64> {
-    let mut c = Vec::with_capacity(l.segments.len() + 1);
-    let mut acc = 0.0;
-    c.push(acc);
-    for s in &l.segments {
-        acc += s.length();
-        c.push(acc);
+/// Whether two places on a closed loop, each a segment index and a fraction along it, are at
+/// most `limit` apart measured along the loop, either way round. Sums segment lengths from
+/// one place towards the other and stops as soon as `limit` is passed, so the usual answer
+/// ("far apart") costs a segment or two.
+fn close_along_loop(segs: &[Segment], a: (u32, f64), b: (u32, f64), limit: f64) -> bool {
+    let ((i, ti), (j, tj)) = if (a.0, a.1) <= (b.0, b.1) {
+        (a, b)
+    } else {
+        (b, a)
+    };
+    let (i, j, n) = (i as usize, j as usize, segs.len());
+    if i == j {
+        return (tj - ti) * segs[i].length() <= limit;
     }
-    c
+    // Forward from (i, ti) to (j, tj).
+    let mut d = (1.0 - ti) * segs[i].length();
+    let mut k = i + 1;
+    while d <= limit && k < j {
+        d += segs[k].length();
+        k += 1;
+    }
+    if d <= limit && d + tj * segs[j].length() <= limit {
+        return true;
+    }
+    // Backward, through the loop's closing point.
+    let mut d = ti * segs[i].length() + (1.0 - tj) * segs[j].length();
+    let mut k = (j + 1) % n;
+    while d <= limit && k != i {
+        d += segs[k].length();
+        k = (k + 1) % n;
+    }
+    d <= limit
 }
 
 /// A uniform grid over segment boxes for finding pairs whose boxes may overlap.
