@@ -132,7 +132,8 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     if chained.degenerate > 0 {
         notes.push(format!(
             "{} segments shorter than the gap {} mm dropped",
-            chained.degenerate, join_gap
+            chained.degenerate,
+            crate::geom::chain::fmt_len(join_gap)
         ));
     }
     let note = notes.join("; ");
