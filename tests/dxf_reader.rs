@@ -484,6 +484,83 @@ fn line_endings_and_padded_codes() {
     assert_eq!(read_str(&bom).unwrap().pieces, want.pieces);
 }
 
+/// The same drawing as the usual writers put it (codes right-aligned to three characters,
+/// short values: the reader's fast path) and in other styles (left-aligned codes, long
+/// values, blanks, CR LF, lone CR: its general path), with its numbers spelled in several
+/// ways that all mean the same double: every version must give the same pieces, bit for bit.
+#[test]
+fn writer_styles_and_number_spellings_read_alike() {
+    // Coordinates as shortest round-trip output writes them (up to 17 significant digits,
+    // up to 19 digits with leading zeros), and simpler ones.
+    let numbers = [
+        2625.0578157515506,
+        -0.043306690206590163,
+        0.30000000000000004,
+        1522.921987442087,
+        -9999999.25,
+        1e-7,
+        0.0,
+    ];
+    // Spellings that read back as exactly `v`: shortest, exponent form, a trailing zero, a
+    // plus sign, and more digits than needed (the exact expansion cut at 25 decimals is
+    // nearer to `v` than to any other double).
+    let spellings: [fn(f64) -> String; 5] = [
+        |v| format!("{v}"),
+        |v| format!("{v:e}"),
+        |v| {
+            let t = format!("{v}");
+            if t.contains('.') {
+                t + "0"
+            } else {
+                t + ".0"
+            }
+        },
+        |v| {
+            if v < 0.0 {
+                format!("{v}")
+            } else {
+                format!("+{v}")
+            }
+        },
+        |v| format!("{v:.25}"),
+    ];
+    let entities = |s: fn(f64) -> String, a: f64, b: f64| {
+        let (a, b, r) = (s(a), s(b), s(1.0 + a.abs()));
+        format!(
+            "0\nLINE\n5\n2F\n8\nPROFILE\n10\n{a}\n20\n{b}\n30\n0.0\n11\n{b}\n21\n{a}\n31\n0.0\n\
+             0\nARC\n8\nPROFILE\n10\n{a}\n20\n{a}\n30\n0.0\n40\n{r}\n50\n{b}\n51\n350.5\n"
+        )
+    };
+    let right_aligned = |text: &str| -> String {
+        let line = |(i, l): (usize, &str)| {
+            if i % 2 == 0 {
+                format!("{l:>3}\n")
+            } else {
+                format!("{l}\n")
+            }
+        };
+        text.lines().enumerate().map(line).collect()
+    };
+    for (k, &a) in numbers.iter().enumerate() {
+        let b = numbers[(k + 3) % numbers.len()];
+        let want = read_str(&drawing("", &entities(spellings[0], a, b))).unwrap();
+        assert_eq!(want.pieces.len(), 2);
+        for spelling in spellings {
+            let base = drawing("", &entities(spelling, a, b));
+            for text in [
+                right_aligned(&base),
+                right_aligned(&base).replace('\n', "\r\n"),
+                base.clone(),
+                base.replace('\n', "  \n"),
+                base.replace('\n', "\r"),
+            ] {
+                let got = read_str(&text).unwrap();
+                assert_eq!(got.pieces, want.pieces, "{text}");
+            }
+        }
+    }
+}
+
 // ---------------------------------------------------------------------------------------------
 // Errors
 

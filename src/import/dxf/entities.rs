@@ -45,13 +45,14 @@ struct Common<'a> {
 }
 
 impl<'a> Common<'a> {
-    fn new(start: &Pair<'a>) -> Self {
+    /// The groups of the entity whose `0/TYPE` pair is at `at`.
+    fn new(at: Location) -> Self {
         Common {
             layer: b"0",
             handle: None,
             paper: false,
             normal: [0.0, 0.0, 1.0],
-            at: start.location(),
+            at,
         }
     }
 
@@ -204,6 +205,29 @@ fn unit(a: [f64; 3]) -> Option<[f64; 3]> {
     (len.is_finite() && len > 0.0).then(|| [a[0] / len, a[1] / len, a[2] / len])
 }
 
+/// [`Handle::parse`] (hexadecimal digits of group 5), with the digit test done without a
+/// branch per digit: handles mix digits and letters in no order a branch could learn.
+fn handle(text: &[u8]) -> Option<Handle> {
+    let t = text.trim_ascii();
+    if t.is_empty() || t.len() > 16 {
+        return None;
+    }
+    let mut v = 0u64;
+    let mut bad = false;
+    for &b in t {
+        let digit = b.wrapping_sub(b'0');
+        let letter = (b | 0x20).wrapping_sub(b'a'); // 'A'..='F' as 'a'..='f'
+        bad |= digit > 9 && letter > 5;
+        let d = if digit <= 9 {
+            digit
+        } else {
+            letter.wrapping_add(10)
+        };
+        v = (v << 4) | u64::from(d & 15);
+    }
+    (!bad).then_some(Handle(v))
+}
+
 /// The reason text for an entity type that is not read.
 fn type_reason(ty: &[u8]) -> Cow<'_, str> {
     match ty {
@@ -252,21 +276,25 @@ impl<'a> Reader<'a, '_> {
     /// ENTITIES: one entity per `0/TYPE` pair until `0/ENDSEC`.
     pub(super) fn read_entities(&mut self) -> Result<(), ImportError> {
         loop {
-            let p = self.next_in("ENTITIES")?;
+            self.advance_in("ENTITIES")?;
+            let p = &self.pairs.cur;
             if p.code != 0 {
                 continue; // pairs between the section name and the first entity
             }
-            if self.section_end(&p, "ENTITIES") {
-                return Ok(());
-            }
+            let at = p.location();
             match p.text() {
                 // 3DLINE: the Release 10 name of a LINE with z coordinates.
-                b"LINE" => self.read_line(&p, "LINE")?,
-                b"3DLINE" => self.read_line(&p, "3DLINE")?,
-                b"ARC" => self.read_arc(&p, false)?,
-                b"CIRCLE" => self.read_arc(&p, true)?,
-                b"LWPOLYLINE" => self.read_lwpolyline(&p)?,
-                b"POLYLINE" => self.read_polyline(&p)?,
+                b"LINE" => self.read_line(at, "LINE")?,
+                b"3DLINE" => self.read_line(at, "3DLINE")?,
+                b"ARC" => self.read_arc(at, false)?,
+                b"CIRCLE" => self.read_arc(at, true)?,
+                b"LWPOLYLINE" => self.read_lwpolyline(at)?,
+                b"POLYLINE" => self.read_polyline(at)?,
+                b"ENDSEC" | b"SECTION" | b"EOF" => {
+                    if self.section_end("ENTITIES") {
+                        return Ok(());
+                    }
+                }
                 b"INSERT" => {
                     self.skip_fields()?;
                     self.skip_attributes()?;
@@ -301,18 +329,15 @@ impl<'a> Reader<'a, '_> {
             self.skip(reason::PAPER_SPACE);
             return None;
         }
-        let reason = match self.layers.verdict(c.layer, self.opts) {
-            Verdict::Keep(name) => return Some(name.clone()),
-            Verdict::Skip(reason) => reason,
-        };
-        // `reason` borrows `self.layers`; count it in the disjoint `self.skips`.
-        match self.skips.get_mut(reason.as_str()) {
-            Some(n) => *n += 1,
-            None => {
-                self.skips.insert(reason.clone(), 1);
+        let i = self.layers.verdict(c.layer, self.opts);
+        let entry = &mut self.layers.entries[i]; // `verdict` returns an index into `entries`
+        match &entry.verdict {
+            Verdict::Keep(name) => Some(name.clone()),
+            Verdict::Skip(_) => {
+                entry.skipped += 1; // counted under its reason in `finish`
+                None
             }
         }
-        None
     }
 
     /// Count an entity left out for a non-finite number, with one note for the file.
@@ -357,15 +382,15 @@ impl<'a> Reader<'a, '_> {
             origin: Origin {
                 entity,
                 location: c.at,
-                handle: c.handle.and_then(Handle::parse),
+                handle: c.handle.and_then(handle),
             },
         };
         self.push_piece(piece);
     }
 
     /// LINE (and 3DLINE): start 10/20, end 11/21, in world coordinates; z (30/31) is dropped.
-    fn read_line(&mut self, start: &Pair<'a>, entity: &'static str) -> Result<(), ImportError> {
-        let mut c = Common::new(start);
+    fn read_line(&mut self, at: Location, entity: &'static str) -> Result<(), ImportError> {
+        let mut c = Common::new(at);
         let (mut x1, mut y1, mut x2, mut y2) = (0.0, 0.0, 0.0, 0.0);
         while self.field()? {
             let p = &self.pairs.cur;
@@ -393,9 +418,9 @@ impl<'a> Reader<'a, '_> {
 
     /// ARC (centre 10/20/30, radius 40, start and end angles 50/51 in degrees,
     /// counter-clockwise in the OCS) and CIRCLE (centre, radius).
-    fn read_arc(&mut self, start: &Pair<'a>, circle: bool) -> Result<(), ImportError> {
+    fn read_arc(&mut self, at: Location, circle: bool) -> Result<(), ImportError> {
         let entity = if circle { "CIRCLE" } else { "ARC" };
-        let mut c = Common::new(start);
+        let mut c = Common::new(at);
         let (mut x, mut y, mut z, mut r) = (0.0, 0.0, 0.0, 0.0);
         let (mut a0, mut a1) = (0.0, 360.0);
         while self.field()? {
@@ -444,8 +469,8 @@ impl<'a> Reader<'a, '_> {
     /// LWPOLYLINE: flags 70 (bit 1 = closed), elevation 38, vertices 10/20 each optionally
     /// followed by a bulge 42 (DXF reference, LWPOLYLINE). Widths (40/41/43) and vertex ids
     /// (91) are not needed.
-    fn read_lwpolyline(&mut self, start: &Pair<'a>) -> Result<(), ImportError> {
-        let mut c = Common::new(start);
+    fn read_lwpolyline(&mut self, at: Location) -> Result<(), ImportError> {
+        let mut c = Common::new(at);
         let mut vertices = std::mem::take(&mut self.vertices);
         vertices.clear();
         let (mut flags, mut elevation, mut count) = (0i64, 0.0, None);
@@ -472,7 +497,14 @@ impl<'a> Reader<'a, '_> {
                 },
                 38 => elevation = p.real()?,
                 70 => flags = p.int()?,
-                90 => count = Some(p.int()?),
+                90 => {
+                    let n = p.int()?;
+                    count = Some(n);
+                    // Room for the announced vertices, but no more than the rest of the file
+                    // could hold (a vertex takes at least 8 bytes), whatever group 90 says.
+                    let room = self.pairs.bytes_left() / 8;
+                    vertices.reserve(usize::try_from(n).unwrap_or(0).min(room));
+                }
                 _ => c.take(p, true)?,
             }
         }
@@ -498,8 +530,8 @@ impl<'a> Reader<'a, '_> {
     /// Flags 70: 1 = closed, 2 = curve-fit, 4 = spline-fit, 8 = 3-D polyline, 16 = 3-D mesh,
     /// 64 = polyface mesh. Vertex flag 16 marks a spline frame control point, which is not
     /// on the curve and is dropped. Elevation is the z of the POLYLINE's own point (30).
-    fn read_polyline(&mut self, start: &Pair<'a>) -> Result<(), ImportError> {
-        let mut c = Common::new(start);
+    fn read_polyline(&mut self, at: Location) -> Result<(), ImportError> {
+        let mut c = Common::new(at);
         let (mut flags, mut elevation) = (0i64, 0.0);
         while self.field()? {
             let p = &self.pairs.cur;
@@ -536,7 +568,8 @@ impl<'a> Reader<'a, '_> {
         vertices: &mut Vec<Vertex>,
     ) -> Result<(), ImportError> {
         loop {
-            let p = self.next_in("ENTITIES")?;
+            self.advance_in("ENTITIES")?;
+            let p = &self.pairs.cur;
             if p.is(0, b"VERTEX") {
                 let mut v = Vertex {
                     x: 0.0,
@@ -562,7 +595,7 @@ impl<'a> Reader<'a, '_> {
                 return self.skip_fields();
             } else if p.code == 0 {
                 // Another entity or the section end: SEQEND is missing.
-                self.pairs.push_back(p);
+                self.pairs.replay();
                 let at = c.at;
                 self.note_once("no SEQEND", || {
                     format!("POLYLINE at {at} has no SEQEND; its vertices end at the next entity")
@@ -629,11 +662,19 @@ fn polyline_segments(vertices: &[Vertex], closed: bool, plane: &Plane, z: f64) -
         Some(v) => plane.point(v.x, v.y, z),
         None => return segments,
     };
-    for i in 0..edges {
-        let (va, vb) = (&vertices[i], &vertices[(i + 1) % n]); // i < edges <= n, n > 0
+    for (i, va) in vertices.iter().enumerate().take(edges) {
+        // The closing edge returns to the first vertex (no `%`: a division per edge).
+        let vb = vertices.get(i + 1).unwrap_or(&vertices[0]); // n > 0
         let b = plane.point(vb.x, vb.y, z);
         if a != b {
-            segments.push(match Arc::from_bulge(a, b, va.bulge * sign) {
+            // A zero bulge is a straight edge; `Arc::from_bulge` says so too, after work.
+            let bulge = va.bulge * sign;
+            let arc = if bulge == 0.0 {
+                None
+            } else {
+                Arc::from_bulge(a, b, bulge)
+            };
+            segments.push(match arc {
                 Some(arc) => Segment::Arc(arc),
                 None => Segment::line(a, b),
             });
@@ -772,6 +813,29 @@ mod tests {
         assert!(matches!(s[2], Segment::Arc(a) if a.sweep < 0.0));
         assert!(polyline_segments(&[v(1.0, 1.0, 0.0)], true, &Plane::Identity, 0.0).is_empty());
         assert!(polyline_segments(&[], true, &Plane::Identity, 0.0).is_empty());
+    }
+
+    #[test]
+    fn handles_as_the_import_module_reads_them() {
+        let mut texts: Vec<Vec<u8>> = (0..=255u8).map(|b| vec![b]).collect();
+        texts.extend(
+            [
+                &b"1F"[..],
+                b"a3",
+                b" 2B ",
+                b"",
+                b" ",
+                b"FFFFFFFFFFFFFFFF",
+                b"10000000000000000",
+                b"12G",
+                b"0x1",
+                b"-1",
+            ]
+            .map(<[u8]>::to_vec),
+        );
+        for t in &texts {
+            assert_eq!(handle(t), Handle::parse(t), "{t:?}");
+        }
     }
 
     #[test]

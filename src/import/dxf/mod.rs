@@ -88,49 +88,100 @@ enum Verdict {
 struct Layers {
     /// Hidden state by lower-case layer name (DXF layer names are case-insensitive).
     hidden: HashMap<String, bool>,
-    /// Verdicts by the name's bytes as written in group 8.
-    verdicts: Vec<(Vec<u8>, Verdict)>,
+    /// Verdicts by the name's bytes as written in group 8, in the order first met.
+    entries: Vec<LayerEntry>,
+    /// `entries` by name, built once there are more than [`Layers::SCAN`] of them.
     index: HashMap<Vec<u8>, usize>,
-    last: Option<usize>,
+    /// The entry found last (entities on one layer tend to come together).
+    last: usize,
+}
+
+#[derive(Debug)]
+struct LayerEntry {
+    name: Vec<u8>,
+    verdict: Verdict,
+    /// Entities left out under a `Skip` verdict, not yet counted in `Reader::skips`.
+    skipped: usize,
 }
 
 impl Layers {
-    fn add_layer(&mut self, name: String, frozen: bool, off: bool) {
+    /// Up to this many layer names are looked up by comparing them one by one, which is
+    /// cheaper than hashing the name.
+    const SCAN: usize = 8;
+
+    fn add_layer(
+        &mut self,
+        name: String,
+        frozen: bool,
+        off: bool,
+        skips: &mut HashMap<String, usize>,
+    ) {
         self.hidden.insert(name.to_lowercase(), frozen || off);
         // A table after the entities (unusual) invalidates earlier verdicts.
-        self.verdicts.clear();
+        self.flush_skips(skips);
+        self.entries.clear();
         self.index.clear();
-        self.last = None;
     }
 
-    fn verdict(&mut self, name: &[u8], opts: &ReadOptions) -> &Verdict {
-        let idx = match self.last {
-            Some(i) if self.verdicts.get(i).is_some_and(|v| v.0 == name) => i,
-            _ => match self.index.get(name) {
-                Some(&i) => i,
-                None => {
-                    let shown = decode_text(name);
-                    let hidden = self
-                        .hidden
-                        .get(&shown.to_lowercase())
-                        .copied()
-                        .unwrap_or(false);
-                    let verdict = if hidden && !opts.include_hidden_layers {
-                        Verdict::Skip(format!("layer off or frozen: {shown}"))
-                    } else if !opts.layer_selected(&shown) {
-                        Verdict::Skip(format!("layer not selected: {shown}"))
-                    } else {
-                        Verdict::Keep(LayerName::from(shown))
-                    };
-                    self.verdicts.push((name.to_vec(), verdict));
-                    let i = self.verdicts.len() - 1;
-                    self.index.insert(name.to_vec(), i);
-                    i
-                }
-            },
+    /// Move the counts of skipped entities into `skips`.
+    fn flush_skips(&mut self, skips: &mut HashMap<String, usize>) {
+        for entry in &mut self.entries {
+            if let (Verdict::Skip(reason), n @ 1..) = (&entry.verdict, entry.skipped) {
+                *skips.entry(reason.clone()).or_insert(0) += n;
+                entry.skipped = 0;
+            }
+        }
+    }
+
+    /// The index in `entries` of the verdict for the layer written as `name`.
+    #[inline]
+    fn verdict(&mut self, name: &[u8], opts: &ReadOptions) -> usize {
+        if self.entries.get(self.last).is_some_and(|e| e.name == name) {
+            return self.last;
+        }
+        let found = if self.entries.len() <= Self::SCAN {
+            self.entries.iter().position(|e| e.name == name)
+        } else {
+            self.index.get(name).copied()
         };
-        self.last = Some(idx);
-        &self.verdicts[idx].1 // idx came from `verdicts` itself
+        self.last = match found {
+            Some(i) => i,
+            None => self.add_verdict(name, opts),
+        };
+        self.last
+    }
+
+    #[cold]
+    fn add_verdict(&mut self, name: &[u8], opts: &ReadOptions) -> usize {
+        let shown = decode_text(name);
+        let hidden = self
+            .hidden
+            .get(&shown.to_lowercase())
+            .copied()
+            .unwrap_or(false);
+        let verdict = if hidden && !opts.include_hidden_layers {
+            Verdict::Skip(format!("layer off or frozen: {shown}"))
+        } else if !opts.layer_selected(&shown) {
+            Verdict::Skip(format!("layer not selected: {shown}"))
+        } else {
+            Verdict::Keep(LayerName::from(shown))
+        };
+        self.entries.push(LayerEntry {
+            name: name.to_vec(),
+            verdict,
+            skipped: 0,
+        });
+        let i = self.entries.len() - 1;
+        if self.entries.len() > Self::SCAN {
+            if self.index.is_empty() {
+                // The first time past the scan limit: index the entries so far.
+                let named = self.entries.iter().enumerate();
+                self.index = named.map(|(i, e)| (e.name.clone(), i)).collect();
+            } else {
+                self.index.insert(name.to_vec(), i);
+            }
+        }
+        i
     }
 }
 
@@ -209,6 +260,7 @@ impl<'a> Reader<'a, '_> {
     }
 
     fn finish(mut self) -> Drawing {
+        self.layers.flush_skips(&mut self.skips);
         for (reason, n) in self.skips.drain() {
             *self.drawing.skipped.entry(reason).or_insert(0) += n;
         }
@@ -275,9 +327,11 @@ impl<'a> Reader<'a, '_> {
         }
     }
 
-    /// Handle a `0/…` pair that ends a section: `true` when the section is over. A `SECTION`
-    /// or `EOF` inside a section means its `ENDSEC` is missing: put it back and end here.
-    fn section_end(&mut self, p: &Pair<'a>, section: &str) -> bool {
+    /// Handle a current pair `0/…` that ends a section: `true` when the section is over. A
+    /// `SECTION` or `EOF` inside a section means its `ENDSEC` is missing: give it back and
+    /// end here.
+    fn section_end(&mut self, section: &str) -> bool {
+        let p = &self.pairs.cur;
         if p.code != 0 {
             return false;
         }
@@ -289,7 +343,7 @@ impl<'a> Reader<'a, '_> {
                 self.note_once("missing ENDSEC", || {
                     format!("the {section} section has no 0/ENDSEC (next section at {at})")
                 });
-                self.pairs.push_back(*p);
+                self.pairs.replay();
                 true
             }
             _ => false,
@@ -300,11 +354,8 @@ impl<'a> Reader<'a, '_> {
     fn skip_section(&mut self, section: &str) -> Result<(), ImportError> {
         loop {
             self.advance_in(section)?;
-            if self.pairs.cur.code == 0 {
-                let p = self.pairs.cur;
-                if self.section_end(&p, section) {
-                    return Ok(());
-                }
+            if self.pairs.cur.code == 0 && self.section_end(section) {
+                return Ok(());
             }
         }
     }
@@ -312,16 +363,16 @@ impl<'a> Reader<'a, '_> {
     /// HEADER: `$INSUNITS` (DXF reference, HEADER section variables: group 70, 0 = unitless).
     fn read_header(&mut self) -> Result<(), ImportError> {
         loop {
-            let p = self.next_in("HEADER")?;
-            if self.section_end(&p, "HEADER") {
+            self.advance_in("HEADER")?;
+            if self.section_end("HEADER") {
                 return Ok(());
             }
-            if !p.is(9, b"$INSUNITS") {
+            if !self.pairs.cur.is(9, b"$INSUNITS") {
                 continue;
             }
+            let at = self.pairs.cur.location();
             let v = self.next_in("HEADER")?;
             if v.code == 0 || v.code == 9 {
-                let at = p.location();
                 self.note_once("insunits empty", || {
                     format!("$INSUNITS at {at} has no value; units left undeclared")
                 });
@@ -364,21 +415,22 @@ impl<'a> Reader<'a, '_> {
         // Inside a table: Some(is_layer_table).
         let mut table: Option<bool> = None;
         loop {
-            let p = self.next_in("TABLES")?;
-            if self.section_end(&p, "TABLES") {
-                return Ok(());
-            }
-            if p.code != 0 {
+            self.advance_in("TABLES")?;
+            if self.pairs.cur.code != 0 {
                 continue;
             }
-            match p.text() {
+            if self.section_end("TABLES") {
+                return Ok(());
+            }
+            match self.pairs.cur.text() {
                 b"TABLE" => {
                     // Table header pairs up to the first entry; group 2 names the table.
                     let mut is_layer = false;
                     loop {
-                        let h = self.next_in("TABLES")?;
+                        self.advance_in("TABLES")?;
+                        let h = &self.pairs.cur;
                         if h.code == 0 {
-                            self.pairs.push_back(h);
+                            self.pairs.replay();
                             break;
                         }
                         if h.code == 2 {
@@ -401,10 +453,11 @@ impl<'a> Reader<'a, '_> {
         let mut frozen = false;
         let mut off = false;
         loop {
-            let p = self.next_in("TABLES")?;
+            self.advance_in("TABLES")?;
+            let p = &self.pairs.cur;
             match p.code {
                 0 => {
-                    self.pairs.push_back(p);
+                    self.pairs.replay();
                     break;
                 }
                 2 => name = p.text(),
@@ -413,7 +466,8 @@ impl<'a> Reader<'a, '_> {
                 _ => {}
             }
         }
-        self.layers.add_layer(decode_text(name), frozen, off);
+        self.layers
+            .add_layer(decode_text(name), frozen, off, &mut self.skips);
         Ok(())
     }
 
