@@ -9,7 +9,7 @@
 //! Prints `files=… entities=… failed=… panicked=… seconds=…` on one line.
 
 use std::panic::{self, AssertUnwindSafe};
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::Instant;
 
 use rayon::prelude::*;
@@ -23,11 +23,8 @@ fn main() {
     // Panics are counted below; keep their messages off the terminal.
     panic::set_hook(Box::new(|_| {}));
     let start = Instant::now();
-    let mut files = Vec::new();
-    for dir in &dirs {
-        collect_dxf(dir, &mut files);
-    }
-    files.sort();
+    // The same file search as `sectio measure` (recursive, `.dxf` in any case, sorted).
+    let files = sectio::cli::batch::collect_files(&dirs).expect("folders readable");
     let (entities, failed, panicked) = files
         .par_iter()
         .map(
@@ -43,22 +40,4 @@ fn main() {
         "files={} entities={entities} failed={failed} panicked={panicked} seconds={seconds:.4}",
         files.len()
     );
-}
-
-fn collect_dxf(dir: &Path, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else {
-        eprintln!("cannot read {}", dir.display());
-        return;
-    };
-    for entry in entries.flatten() {
-        let path = entry.path();
-        if path.is_dir() {
-            collect_dxf(&path, out);
-        } else if path
-            .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("dxf"))
-        {
-            out.push(path);
-        }
-    }
 }

@@ -13,7 +13,7 @@
 
 use std::fmt::Write as _;
 use std::hint::black_box;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::Instant;
 
 use sectio::import::dxf::read;
@@ -22,16 +22,12 @@ use sectio::import::ReadOptions;
 fn main() {
     let arg = std::env::args().nth(1);
     let inputs: Vec<Vec<u8>> = match arg.as_deref().map(|a| (a, a.parse::<usize>())) {
-        Some((dir, Err(_))) => {
-            let mut files = vec![];
-            collect_dxf(Path::new(dir), &mut files);
-            files.sort();
-            files
-                .iter()
-                .filter_map(|f| std::fs::read(f).ok())
-                .filter(|b| parse_floor(b).is_some())
-                .collect()
-        }
+        Some((dir, Err(_))) => sectio::cli::batch::collect_files(&[PathBuf::from(dir)])
+            .expect("folder readable")
+            .iter()
+            .filter_map(|f| std::fs::read(f).ok())
+            .filter(|b| parse_floor(b).is_some())
+            .collect(),
         Some((_, Ok(mb))) => vec![synthetic(mb << 20).into_bytes()],
         None => vec![synthetic(50 << 20).into_bytes()],
     };
@@ -60,22 +56,6 @@ fn main() {
         mb / reader,
         reader / floor
     );
-}
-
-fn collect_dxf(dir: &Path, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else {
-        return;
-    };
-    for path in entries.flatten().map(|e| e.path()) {
-        if path.is_dir() {
-            collect_dxf(&path, out);
-        } else if path
-            .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("dxf"))
-        {
-            out.push(path);
-        }
-    }
 }
 
 fn best_of(n: usize, mut f: impl FnMut()) -> f64 {

@@ -10,7 +10,7 @@
 //!
 //! Prints `files=… bytes=… pairs=… seconds=… checksum=…` on one line.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::Instant;
 
 use rayon::prelude::*;
@@ -22,11 +22,8 @@ fn main() {
         std::process::exit(2);
     }
     let start = Instant::now();
-    let mut files = Vec::new();
-    for dir in &dirs {
-        collect_dxf(dir, &mut files);
-    }
-    files.sort();
+    // The same file search as `sectio measure` (recursive, `.dxf` in any case, sorted).
+    let files = sectio::cli::batch::collect_files(&dirs).expect("folders readable");
     let totals = files
         .par_iter()
         .map(|path| match std::fs::read(path) {
@@ -102,22 +99,4 @@ fn parse_pairs(bytes: &[u8]) -> (u64, f64, bool) {
 /// The line without surrounding blanks (group codes are right-aligned; CR of CRLF files).
 fn as_str(line: &[u8]) -> Option<&str> {
     std::str::from_utf8(line.trim_ascii()).ok()
-}
-
-fn collect_dxf(dir: &Path, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else {
-        eprintln!("cannot read {}", dir.display());
-        return;
-    };
-    for entry in entries.flatten() {
-        let path = entry.path();
-        if path.is_dir() {
-            collect_dxf(&path, out);
-        } else if path
-            .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("dxf"))
-        {
-            out.push(path);
-        }
-    }
 }
