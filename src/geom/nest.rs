@@ -8,8 +8,6 @@
 //! by x, and containment is tested only against loops whose box holds the candidate's box,
 //! found through a uniform grid.
 
-use std::collections::HashMap;
-
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
 use super::predicates::{intersections, winding_number};
@@ -459,7 +457,7 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
         }
     }
     // Assemble profiles in the order loops were given (the caller sorts rows).
-    let mut profile_of: HashMap<usize, usize> = HashMap::new();
+    let mut profile_of: FastMap<usize, usize> = FastMap::default();
     let mut slots: Vec<Option<Loop>> = loops.into_iter().map(Some).collect();
     let mut profiles: Vec<Profile> = Vec::new();
     for &i in &order {

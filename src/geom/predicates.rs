@@ -140,18 +140,13 @@ fn arc_arc(x: &Arc, y: &Arc, tol: f64) -> Vec<Hit> {
         if (r1 - r2).abs() > tol {
             return Vec::new();
         }
+        // The shared stretch is bounded by ends of the two arcs that lie on both.
         let mut hits = Vec::new();
-        for (p, on_x) in [
-            (y.start, false),
-            (y.end, false),
-            (x.start, true),
-            (x.end, true),
-        ] {
+        for p in [y.start, y.end, x.start, x.end] {
             let v = p - x.center;
             let ang = v.y.atan2(v.x);
             let (fx, fy) = (arc_fraction(x, ang, t1), arc_fraction(y, ang, t2));
             if let (Some(fx), Some(fy)) = (fx, fy) {
-                let _ = on_x;
                 hits.push(Hit {
                     at: p,
                     t1: fx,
