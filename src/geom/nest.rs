@@ -166,16 +166,15 @@ fn close_along_loop(segs: &[Segment], a: (u32, f64), b: (u32, f64), limit: f64) 
 /// Each box is listed in every cell it covers (boxes grown by `tol`); a box covering very
 /// many cells (a long line across a sheet) is kept in a separate list and paired with every
 /// other box instead. A pair met in several cells is reported once: in the cell holding the
-/// lower-left corner of the two boxes' overlap.
+/// lower-left corner of the two boxes' overlap, which is the larger of their lower-left cells.
 struct SegmentGrid {
-    origin: Point,
-    inv_cell: f64,
     nx: usize,
     ny: usize,
     /// Items of cell k: `members[start[k]..start[k + 1]]`.
     start: Vec<u32>,
     members: Vec<u32>,
-    boxes: Vec<BBox>,
+    /// Cells each box covers: [x0, y0, x1, y1], inclusive.
+    spans: Vec<[u32; 4]>,
     big: Vec<u32>,
     /// Position in `big` plus one, or 0 for a box listed in the cells.
     big_rank: Vec<u32>,
@@ -187,14 +186,9 @@ impl SegmentGrid {
     const MAX_COVER: usize = 64;
 
     fn new(all: &BBox, boxes: impl Iterator<Item = BBox>, tol: f64) -> SegmentGrid {
-        let boxes: Vec<BBox> = boxes
-            .map(|b| BBox {
-                min: Point::new(b.min.x - tol, b.min.y - tol),
-                max: Point::new(b.max.x + tol, b.max.y + tol),
-            })
-            .collect();
-        let n = boxes.len();
         let (w, h) = (all.width() + 2.0 * tol, all.height() + 2.0 * tol);
+        let boxes: Vec<BBox> = boxes.collect();
+        let n = boxes.len();
         // About one cell per box, square cells.
         let cell = ((w * h) / n as f64)
             .sqrt()
@@ -208,21 +202,34 @@ impl SegmentGrid {
         let inv_cell = 1.0 / cell;
         let nx = ((w * inv_cell) as usize + 1).min(Self::MAX_SIDE);
         let ny = ((h * inv_cell) as usize + 1).min(Self::MAX_SIDE);
+        let origin = Point::new(all.min.x - tol, all.min.y - tol);
+        // Cell index along one axis, clamped into the grid (a cast to i64 is one instruction).
+        let index =
+            |v: f64, o: f64, n: usize| (((v - o) * inv_cell) as i64).clamp(0, n as i64 - 1) as u32;
+        let spans: Vec<[u32; 4]> = boxes
+            .iter()
+            .map(|b| {
+                [
+                    index(b.min.x - tol, origin.x, nx),
+                    index(b.min.y - tol, origin.y, ny),
+                    index(b.max.x + tol, origin.x, nx),
+                    index(b.max.y + tol, origin.y, ny),
+                ]
+            })
+            .collect();
         let mut grid = SegmentGrid {
-            origin: Point::new(all.min.x - tol, all.min.y - tol),
-            inv_cell,
             nx,
             ny,
             start: vec![0; nx * ny + 1],
             members: Vec::new(),
-            boxes,
+            spans,
             big: Vec::new(),
             big_rank: vec![0; n],
         };
         // Two passes: count, then fill (a counting sort by cell).
         let mut big = Vec::new();
-        for (i, b) in grid.boxes.iter().enumerate() {
-            let (x0, y0, x1, y1) = grid.span(b);
+        for (i, &[x0, y0, x1, y1]) in grid.spans.iter().enumerate() {
+            let (x0, y0, x1, y1) = (x0 as usize, y0 as usize, x1 as usize, y1 as usize);
             if (x1 - x0 + 1) * (y1 - y0 + 1) > Self::MAX_COVER {
                 big.push(i as u32);
                 continue;
@@ -241,13 +248,12 @@ impl SegmentGrid {
         for (r, &i) in big.iter().enumerate() {
             grid.big_rank[i as usize] = r as u32 + 1;
         }
-        for (i, b) in grid.boxes.iter().enumerate() {
+        for (i, &[x0, y0, x1, y1]) in grid.spans.iter().enumerate() {
             if grid.big_rank[i] != 0 {
                 continue;
             }
-            let (x0, y0, x1, y1) = grid.span(b);
-            for y in y0..=y1 {
-                for x in x0..=x1 {
+            for y in y0 as usize..=y1 as usize {
+                for x in x0 as usize..=x1 as usize {
                     let k = y * nx + x;
                     grid.members[fill[k] as usize] = i as u32;
                     fill[k] += 1;
@@ -258,20 +264,6 @@ impl SegmentGrid {
         grid
     }
 
-    fn cell_of(&self, p: Point) -> (usize, usize) {
-        let f = |v: f64, o: f64, n: usize| (((v - o) * self.inv_cell).max(0.0) as usize).min(n - 1);
-        (
-            f(p.x, self.origin.x, self.nx),
-            f(p.y, self.origin.y, self.ny),
-        )
-    }
-
-    fn span(&self, b: &BBox) -> (usize, usize, usize, usize) {
-        let (x0, y0) = self.cell_of(b.min);
-        let (x1, y1) = self.cell_of(b.max);
-        (x0, y0, x1, y1)
-    }
-
     /// Call `f(i, j)` once for every pair of boxes that share a cell (or involve a big box).
     fn for_each_pair(&self, mut f: impl FnMut(u32, u32)) {
         for y in 0..self.ny {
@@ -279,10 +271,10 @@ impl SegmentGrid {
                 let k = y * self.nx + x;
                 let cell = &self.members[self.start[k] as usize..self.start[k + 1] as usize];
                 for (a, &i) in cell.iter().enumerate() {
+                    let si = self.spans[i as usize];
                     for &j in &cell[a + 1..] {
-                        let (bi, bj) = (&self.boxes[i as usize], &self.boxes[j as usize]);
-                        let corner = Point::new(bi.min.x.max(bj.min.x), bi.min.y.max(bj.min.y));
-                        if self.cell_of(corner) == (x, y) {
+                        let sj = self.spans[j as usize];
+                        if (si[0].max(sj[0]) as usize, si[1].max(sj[1]) as usize) == (x, y) {
                             f(i, j);
                         }
                     }
@@ -290,7 +282,7 @@ impl SegmentGrid {
             }
         }
         for (a, &i) in self.big.iter().enumerate() {
-            for j in 0..self.boxes.len() as u32 {
+            for j in 0..self.spans.len() as u32 {
                 // A big box with every small one; two big boxes once (the later one asks).
                 let rank = self.big_rank[j as usize] as usize;
                 if rank == 0 || rank <= a {
