@@ -190,9 +190,13 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             } else {
                 Err(format!("not measured: {}", msgs.join("; ")))
             };
+            let mut outcome = make(&p.outer.layer, result);
+            if let Some(warning) = frame_warning(p) {
+                outcome.message = join_notes(&warning, &outcome.message);
+            }
             items.push(Item {
                 key: (bbox.min.x, bbox.min.y),
-                outcome: make(&p.outer.layer, result),
+                outcome,
             });
         }
     }
@@ -227,6 +231,37 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             it.outcome
         })
         .collect()
+}
+
+/// A warning when a profile's holes lie on other layers than its outer loop: the outer loop
+/// may be a sheet frame or title block drawn around the real profiles, which then count as
+/// its holes. Geometry alone cannot tell; the user can, by choosing layers.
+fn frame_warning(p: &Profile) -> Option<String> {
+    let mut others: Vec<&str> = p
+        .holes
+        .iter()
+        .map(|h| &*h.layer)
+        .filter(|l| *l != &*p.outer.layer)
+        .collect();
+    if others.is_empty() {
+        return None;
+    }
+    others.sort_unstable();
+    others.dedup();
+    Some(format!(
+        "outer loop on layer {} holds loops on layer {}: if it is a sheet frame or title block, choose layers with --layer or --exclude-layer",
+        p.outer.layer,
+        others.join(", ")
+    ))
+}
+
+/// Two notes joined by "; ", either of which may be empty.
+fn join_notes(a: &str, b: &str) -> String {
+    match (a.is_empty(), b.is_empty()) {
+        (true, _) => b.to_string(),
+        (_, true) => a.to_string(),
+        _ => format!("{a}; {b}"),
+    }
 }
 
 fn joined_layers(profiles: &[&Profile]) -> String {

@@ -182,6 +182,14 @@ fn layers_choose_what_is_measured() {
         "{}",
         rows[0].s("message")
     );
+    // ... and the row says why that may be wrong, and what to do.
+    assert!(
+        rows[0]
+            .s("message")
+            .contains("outer loop on layer TITLE holds loops on layer PROFILE"),
+        "{}",
+        rows[0].s("message")
+    );
     for args in [vec!["--layer", "PROF*"], vec!["--exclude-layer", "title"]] {
         let mut a = vec![path("dxf/layers.dxf")];
         a.extend(args.iter().map(|s| s.to_string()));
