@@ -168,7 +168,8 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
     // fingerprint (segment count and box) finds candidates; the sorted segment keys confirm
     // them, so a fingerprint collision never drops a loop.
     // First run stored under each fingerprint; further runs with it follow through `next_same`.
-    let mut seen: FastMap<(usize, u64, bool), u32> = FastMap::default();
+    let mut seen: FastMap<(usize, u64, bool), u32> =
+        FastMap::with_capacity_and_hasher(pieces.len(), FastBuild::default());
     let mut next_same: Vec<u32> = Vec::with_capacity(pieces.len());
     let mut meta: Vec<Meta> = Vec::with_capacity(pieces.len());
     let mut store: Vec<(Vec<Segment>, bool, usize)> = Vec::with_capacity(pieces.len());
@@ -354,6 +355,13 @@ fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
     }
 }
 
+/// ⌊v⌋ as an integer by a cast and a correction (`f64::floor` is a library call on the
+/// baseline x86-64 target).
+fn floor_i64(v: f64) -> i64 {
+    let t = v as i64;
+    t - i64::from((t as f64) > v)
+}
+
 /// End of a cell's list of nodes.
 const NONE: u32 = u32::MAX;
 
@@ -374,7 +382,7 @@ impl Nodes {
     /// the neighbouring cells searched.
     fn id(&mut self, p: Point) -> u32 {
         let (fx, fy) = (p.x / self.cell, p.y / self.cell);
-        let (cx, cy) = (fx.floor() as i64, fy.floor() as i64);
+        let (cx, cy) = (floor_i64(fx), floor_i64(fy));
         let margin = self.join_gap / self.cell;
         let (rx, ry) = (fx - cx as f64, fy - cy as f64);
         let dxs: &[i64] = if rx < margin {
