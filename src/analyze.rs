@@ -1,7 +1,7 @@
 //! One drawing in, one outcome per profile out: the whole pipeline for a single file.
 
 use crate::geom::{chain, drop_crossing_loops, nest, BBox, Profile};
-use crate::import::{self, Drawing, ImportError, LengthUnit, ReadOptions};
+use crate::import::{self, Drawing, LengthUnit, ReadOptions};
 use crate::section::{section_props, SectionProps};
 
 /// Settings that shape how a drawing is read and measured.
@@ -52,7 +52,7 @@ pub fn default_join_gap(extent_mm: f64) -> f64 {
 pub fn analyze_drawing(bytes: &[u8], settings: &Settings) -> Vec<Outcome> {
     match import::dxf::read(bytes, &settings.read) {
         Ok(d) => measure_drawing(d, settings),
-        Err(e) => file_row("", describe_import_error(&e)),
+        Err(e) => file_row("", e.to_string()),
     }
 }
 
@@ -279,8 +279,4 @@ fn summarize_skipped(skipped: &std::collections::BTreeMap<String, usize>) -> Str
         .map(|(k, n)| format!("{n} {k}"))
         .collect::<Vec<_>>()
         .join(", ")
-}
-
-fn describe_import_error(e: &ImportError) -> String {
-    e.to_string()
 }

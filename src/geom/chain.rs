@@ -34,9 +34,6 @@ impl Loop {
             .iter()
             .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()))
     }
-    pub fn length(&self) -> f64 {
-        self.segments.iter().map(Segment::length).sum()
-    }
     /// Reverse the direction of travel.
     pub fn reverse(&mut self) {
         self.segments.reverse();
