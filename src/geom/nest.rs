@@ -5,8 +5,8 @@
 //! hole is a profile of its own.
 //!
 //! Both steps avoid all-pairs work: crossings are found by a sweep over segment boxes sorted
-//! by x, and containment is tested only against loops whose box holds the candidate's box,
-//! found through a uniform grid.
+//! by x (a grid when many boxes share an x range), and containment is tested only against
+//! loops whose box holds the candidate's box, found through a uniform grid.
 
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
@@ -39,8 +39,9 @@ impl Profile {
 /// fillet) are not crossings; two different loops that only touch (at a segment end of
 /// either, or tangentially) are allowed, since the regions they bound still do not overlap.
 ///
-/// Candidate pairs come from a uniform grid over the segments' boxes (cells about as many as
-/// segments), so the work grows with the number of segments, not its square.
+/// Candidate pairs come from [`for_each_overlapping_pair`] (a sweep over the segments' boxes,
+/// or a uniform grid where the sweep would test too many), so the work grows with the number
+/// of segments, not its square.
 pub fn drop_crossing_loops(
     loops: Vec<Loop>,
     tol: f64,
@@ -67,8 +68,8 @@ pub fn drop_crossing_loops(
     }
     let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()]; // (where, self?)
     if items.len() >= 2 && all.min.is_finite() && all.max.is_finite() {
-        let grid = SegmentGrid::new(&all, items.iter().map(|it| it.bbox), tol);
-        grid.for_each_pair(|i, j| {
+        let boxes: Vec<BBox> = items.iter().map(|it| it.bbox).collect();
+        let _ = for_each_overlapping_pair(&all, &boxes, tol, |i, j| {
             let (it, jt) = (&items[i as usize], &items[j as usize]);
             if !it.bbox.overlaps(&jt.bbox, tol) {
                 return;
@@ -159,6 +160,89 @@ fn close_along_loop(segs: &[Segment], a: (u32, f64), b: (u32, f64), limit: f64) 
         k = (k + 1) % n;
     }
     d <= limit
+}
+
+/// Call `f(i, j)` once for every pair of `boxes` (in `all`) that overlap within `tol`.
+///
+/// Usually by sweep and prune: the boxes sorted by their left edge, each compared with those
+/// that start before its right edge. The sort is a counting sort into as many slices of the
+/// x range as there are boxes (boxes in one slice stay unsorted, so the sweep stops at the
+/// slice holding the right edge). Along a loop few boxes share an x range, so this tests a few
+/// pairs per box; but a stack of long horizontal lines would make it quadratic, so when the
+/// pairs it would test are many more than the boxes, a [`SegmentGrid`] does it instead.
+/// Returns which of the two it used.
+fn for_each_overlapping_pair(
+    all: &BBox,
+    boxes: &[BBox],
+    tol: f64,
+    mut f: impl FnMut(u32, u32),
+) -> PairSearch {
+    /// Candidate pairs per box above which the grid is used instead of the sweep.
+    const SWEEP_PAIRS_PER_BOX: usize = 24;
+    let n = boxes.len();
+    let x0 = all.min.x - tol;
+    let scale = n as f64 / (all.width() + 2.0 * tol);
+    let scale = if scale.is_finite() { scale } else { 0.0 };
+    // Slice of an x coordinate (a cast to i64 is one instruction; NaN becomes 0).
+    let slice = |x: f64| (((x - x0) * scale) as i64).clamp(0, n as i64 - 1) as usize;
+    // Counting sort by the slice of the left edge: start[k]..start[k + 1] is slice k.
+    let mut start = vec![0u32; n + 1];
+    for b in boxes {
+        start[slice(b.min.x) + 1] += 1;
+    }
+    for k in 0..n {
+        start[k + 1] += start[k];
+    }
+    let mut fill = start.clone();
+    let mut order = vec![0u32; n];
+    for (i, b) in boxes.iter().enumerate() {
+        let k = slice(b.min.x);
+        order[fill[k] as usize] = i as u32;
+        fill[k] += 1;
+    }
+    // In sweep order: the box grown by `tol` (so that the tests below are `tol`-wide like
+    // `BBox::overlaps`), the slice of its left edge, and the end in `order` of the slice of
+    // its right edge: boxes from there on start to its right.
+    let sorted: Vec<(BBox, u32, u32)> = order
+        .iter()
+        .map(|&i| {
+            let b = boxes[i as usize];
+            let grown = BBox {
+                min: Point::new(b.min.x - tol, b.min.y - tol),
+                max: Point::new(b.max.x + tol, b.max.y + tol),
+            };
+            (grown, slice(b.min.x) as u32, start[slice(grown.max.x) + 1])
+        })
+        .collect();
+    let pairs: usize = sorted
+        .iter()
+        .enumerate()
+        .map(|(a, &(_, _, end))| (end as usize).saturating_sub(a + 1))
+        .sum();
+    if pairs > SWEEP_PAIRS_PER_BOX * n {
+        SegmentGrid::new(all, boxes.iter().copied(), tol).for_each_pair(f);
+        return PairSearch::Grid;
+    }
+    for (a, (b, _, end)) in sorted.iter().enumerate() {
+        for c in a + 1..*end as usize {
+            let o = &sorted[c].0;
+            if o.min.x <= b.max.x - tol
+                && b.min.x <= o.max.x - tol
+                && o.min.y <= b.max.y - tol
+                && b.min.y <= o.max.y - tol
+            {
+                f(order[a], order[c]);
+            }
+        }
+    }
+    PairSearch::Sweep
+}
+
+/// How [`for_each_overlapping_pair`] found the pairs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum PairSearch {
+    Sweep,
+    Grid,
 }
 
 /// A uniform grid over segment boxes for finding pairs whose boxes may overlap.
@@ -520,5 +604,118 @@ impl BoxGrid {
     }
     fn candidates(&self, p: Point) -> &[u32] {
         self.cells.get(&self.index(p)).map_or(&[], |v| v.as_slice())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
+    fn uniform(seed: u64) -> impl FnMut() -> f64 {
+        let mut s = seed;
+        move || {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        }
+    }
+
+    /// Pairs (i < j) whose boxes overlap within `tol`, by testing all of them.
+    fn all_pairs(boxes: &[BBox], tol: f64) -> Vec<(u32, u32)> {
+        let mut out = Vec::new();
+        for i in 0..boxes.len() {
+            for j in i + 1..boxes.len() {
+                if boxes[i].overlaps(&boxes[j], tol) {
+                    out.push((i as u32, j as u32));
+                }
+            }
+        }
+        out
+    }
+
+    /// What a pair finder reports: each pair once, as (smaller, larger), sorted; those whose
+    /// boxes do not overlap are dropped (the grid may report a few).
+    fn reported<R>(
+        boxes: &[BBox],
+        tol: f64,
+        run: impl FnOnce(&mut dyn FnMut(u32, u32)) -> R,
+    ) -> (Vec<(u32, u32)>, R) {
+        let mut out = Vec::new();
+        let r = run(&mut |i, j| out.push((i.min(j), i.max(j))));
+        let n = out.len();
+        out.sort_unstable();
+        out.dedup();
+        assert_eq!(out.len(), n, "a pair was reported twice");
+        out.retain(|&(i, j)| boxes[i as usize].overlaps(&boxes[j as usize], tol));
+        (out, r)
+    }
+
+    fn bounds(boxes: &[BBox]) -> BBox {
+        boxes.iter().fold(BBox::EMPTY, |a, b| a.union(b))
+    }
+
+    /// Short segments' boxes scattered over a square: the sweep's case.
+    fn scattered(n: usize, seed: u64) -> Vec<BBox> {
+        let mut r = uniform(seed);
+        (0..n)
+            .map(|_| {
+                let (x, y) = (100.0 * r(), 100.0 * r());
+                let (w, h) = (4.0 * r(), 4.0 * r());
+                BBox {
+                    min: Point::new(x, y),
+                    max: Point::new(x + w, y + h),
+                }
+            })
+            .collect()
+    }
+
+    #[test]
+    fn overlapping_pairs_are_found_exactly_once_by_the_sweep_and_by_the_grid() {
+        for (n, seed, tol) in [(2, 1, 0.0), (50, 2, 0.0), (400, 3, 0.5), (1000, 4, 1e-3)] {
+            let boxes = scattered(n, seed);
+            let all = bounds(&boxes);
+            let expected = all_pairs(&boxes, tol);
+            let swept = reported(&boxes, tol, |f| {
+                for_each_overlapping_pair(&all, &boxes, tol, f)
+            });
+            assert_eq!(
+                swept,
+                (expected.clone(), PairSearch::Sweep),
+                "sweep, n = {n}"
+            );
+            let (gridded, ()) = reported(&boxes, tol, |f| {
+                SegmentGrid::new(&all, boxes.iter().copied(), tol).for_each_pair(f)
+            });
+            assert_eq!(gridded, expected, "grid, n = {n}");
+        }
+    }
+
+    #[test]
+    fn a_stack_of_long_lines_goes_to_the_grid_and_still_finds_every_overlap() {
+        // 300 horizontal lines across the whole width, 1 apart, each overlapping the sweep
+        // range of all others (the sweep would test ~45,000 pairs), and a few short
+        // vertical lines crossing several of them.
+        let mut boxes: Vec<BBox> = (0..300)
+            .map(|k| BBox {
+                min: Point::new(0.0, k as f64),
+                max: Point::new(1000.0, k as f64),
+            })
+            .collect();
+        for k in 0..20 {
+            let x = 50.0 * k as f64 + 3.0;
+            boxes.push(BBox {
+                min: Point::new(x, 10.0 * k as f64 + 0.5),
+                max: Point::new(x, 10.0 * k as f64 + 3.5),
+            });
+        }
+        let all = bounds(&boxes);
+        let expected = all_pairs(&boxes, 0.0);
+        assert_eq!(expected.len(), 20 * 3);
+        let found = reported(&boxes, 0.0, |f| {
+            for_each_overlapping_pair(&all, &boxes, 0.0, f)
+        });
+        assert_eq!(found, (expected, PairSearch::Grid));
     }
 }
