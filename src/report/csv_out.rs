@@ -32,68 +32,93 @@ pub fn write_csv<W: Write>(out: W, rows: &[Row], fmt: &CsvFormat) -> std::io::Re
         .terminator(csv::Terminator::CRLF)
         .from_writer(out);
     w.write_record(header(fmt.unit))?;
-    let mut rec: Vec<String> = Vec::new();
+    // One buffer for the formatted numbers of a row, reused: no allocation per field.
+    let mut num = String::new();
     for row in rows {
-        rec.clear();
         let o = &row.outcome;
-        rec.push(row.file.clone());
-        rec.push(o.profile.to_string());
-        rec.push(if o.result.is_ok() { "ok" } else { "error" }.to_string());
-        rec.push(match &o.result {
-            Ok(_) => o.message.clone(),
-            Err(e) if o.message.is_empty() => e.clone(),
-            Err(e) => format!("{e}; {}", o.message),
-        });
-        rec.push(o.layer.clone());
-        rec.push(o.drawing_units.clone());
-        match numeric_values(o, fmt.unit, fmt.density_kg_m3) {
-            Some(vals) => rec.extend(vals.iter().map(|v| format_number(*v, fmt.decimal_comma))),
-            None => rec.extend(std::iter::repeat_n(String::new(), super::NUMERIC.len())),
+        w.write_field(&row.file)?;
+        w.write_field(o.profile.to_string())?;
+        w.write_field(if o.result.is_ok() { "ok" } else { "error" })?;
+        match &o.result {
+            Ok(_) => w.write_field(&o.message)?,
+            Err(e) if o.message.is_empty() => w.write_field(e)?,
+            Err(e) => w.write_field(format!("{e}; {}", o.message))?,
         }
-        w.write_record(&rec)?;
+        w.write_field(&o.layer)?;
+        w.write_field(&o.drawing_units)?;
+        match numeric_values(o, fmt.unit, fmt.density_kg_m3) {
+            Some(vals) => {
+                for v in vals {
+                    num.clear();
+                    push_number(&mut num, v, fmt.decimal_comma);
+                    w.write_field(&num)?;
+                }
+            }
+            None => {
+                for _ in 0..super::NUMERIC.len() {
+                    w.write_field("")?;
+                }
+            }
+        }
+        w.write_record(None::<&[u8]>)?;
     }
     w.flush()?;
     Ok(())
 }
 
-/// A number with 12 significant digits, plain decimal between 1e-5 and 1e15 and scientific
-/// (`1.5E+20`) outside, trailing zeros trimmed; empty for NaN or infinity.
+/// [`push_number`] into a new string.
 pub fn format_number(v: f64, decimal_comma: bool) -> String {
+    let mut s = String::new();
+    push_number(&mut s, v, decimal_comma);
+    s
+}
+
+/// Append a number with 12 significant digits, plain decimal between 1e-5 and 1e15 and
+/// scientific (`1.5E+20`) outside, trailing zeros trimmed; nothing for NaN or infinity.
+pub fn push_number(out: &mut String, v: f64, decimal_comma: bool) {
+    use std::fmt::Write as _;
     if !v.is_finite() {
-        return String::new();
+        return;
     }
+    let start = out.len();
     if v == 0.0 {
-        return "0".to_string();
+        out.push('0');
+        return;
     }
     let exp = v.abs().log10().floor() as i32;
-    let s = if (-5..15).contains(&exp) {
+    if (-5..15).contains(&exp) {
         let decimals = (11 - exp).max(0) as usize;
-        let s = format!("{:.*}", decimals, v);
-        trim_zeros(&s)
+        // Writing into a String cannot fail.
+        let _ = write!(out, "{v:.decimals$}");
+        trim_zeros(out, start);
     } else {
-        let s = format!("{:.11E}", v);
-        let (mant, e) = s.split_once('E').unwrap_or((&s, "0"));
-        let e: i32 = e.parse().unwrap_or(0);
-        format!(
-            "{}E{}{:02}",
-            trim_zeros(mant),
-            if e < 0 { '-' } else { '+' },
-            e.abs()
-        )
-    };
-    let s = if s == "-0" { "0".to_string() } else { s };
+        let _ = write!(out, "{v:.11E}");
+        let e_at = start + out[start..].find('E').unwrap_or(out.len() - start);
+        let e: i32 = out
+            .get(e_at + 1..)
+            .and_then(|t| t.parse().ok())
+            .unwrap_or(0);
+        out.truncate(e_at);
+        trim_zeros(out, start);
+        let _ = write!(out, "E{}{:02}", if e < 0 { '-' } else { '+' }, e.abs());
+    }
+    if &out[start..] == "-0" {
+        out.truncate(start);
+        out.push('0');
+    }
     if decimal_comma {
-        s.replace('.', ",")
-    } else {
-        s
+        if let Some(p) = out[start..].find('.') {
+            out.replace_range(start + p..start + p + 1, ",");
+        }
     }
 }
 
-fn trim_zeros(s: &str) -> String {
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s.to_string()
+/// Drop trailing zeros after a decimal point (and the point itself if nothing follows) from
+/// the number that starts at `start` in `s`.
+fn trim_zeros(s: &mut String, start: usize) {
+    if s[start..].contains('.') {
+        let kept = s[start..].trim_end_matches('0').trim_end_matches('.').len();
+        s.truncate(start + kept);
     }
 }
 
