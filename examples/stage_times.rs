@@ -10,6 +10,10 @@ use sectio::geom::{chain, drop_crossing_loops, nest, BBox};
 use sectio::import::{dxf, ReadOptions};
 use sectio::section::section_props;
 
+/// The same allocator as the binary, so that the stage times match a `measure` run.
+#[global_allocator]
+static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 fn main() {
     let mut args = std::env::args().skip(1);
     let dir = args.next().expect("usage: stage_times DIR [--layer NAME]");
@@ -32,6 +36,7 @@ fn main() {
         "properties",
     ];
     let mut area = 0.0;
+    let (mut n_segments, mut n_loops) = (0usize, 0usize);
     for f in &files {
         let t0 = Instant::now();
         let bytes = std::fs::read(f).expect("read");
@@ -48,6 +53,8 @@ fn main() {
             .diagonal();
         let gap = default_join_gap(extent);
         let c = chain(d.pieces, gap);
+        n_loops += c.loops.len();
+        n_segments += c.loops.iter().map(|l| l.segments.len()).sum::<usize>();
         let t3 = Instant::now();
         let mut problems = c.problems;
         let loops = drop_crossing_loops(c.loops, gap, &mut problems);
@@ -77,5 +84,9 @@ fn main() {
         "{:12} {:8.1} ms (checksum {area:.3})",
         "total",
         total.as_secs_f64() * 1e3
+    );
+    println!(
+        "{n_loops} loops of {n_segments} segments in {} files",
+        files.len()
     );
 }
