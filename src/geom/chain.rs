@@ -375,7 +375,7 @@ struct Nodes {
 impl Nodes {
     /// The node within `join_gap` of `p` (the nearest, when several), or a new one.
     ///
-    /// Cells are four gaps wide, so only a point within one gap of its cell's border needs
+    /// Cells are sixteen gaps wide, so only a point within one gap of its cell's border needs
     /// the neighbouring cells searched.
     fn id(&mut self, p: Point) -> u32 {
         let (fx, fy) = (p.x / self.cell, p.y / self.cell);
@@ -426,7 +426,7 @@ fn link(runs: &[(Vec<Segment>, usize)], meta: &[Meta], join_gap: f64, out: &mut 
         return;
     }
     let mut nodes = Nodes {
-        cell: (4.0 * join_gap).max(f64::MIN_POSITIVE),
+        cell: (16.0 * join_gap).max(f64::MIN_POSITIVE),
         join_gap,
         grid: FastMap::with_capacity_and_hasher(runs.len() * 2, FastBuild::default()),
         next: Vec::with_capacity(runs.len() * 2),

@@ -66,10 +66,39 @@ pub fn drop_crossing_loops(
             });
         }
     }
-    let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()]; // (where, self?)
+    // Items are numbered along each loop. Most overlapping pairs are a segment and the next
+    // one of its loop, which usually meet only at their shared vertex: that is checked once
+    // per vertex here, and such pairs are passed over below. `simple_next[i]` is the item
+    // after item i when they only share their vertex, else NONE.
+    const NONE: u32 = u32::MAX;
+    let mut simple_next = vec![NONE; items.len()];
+    let mut first = 0;
+    for l in &loops {
+        let n = l.segments.len();
+        if n >= 3 {
+            for k in 0..n {
+                let next = (k + 1) % n;
+                if only_share_their_vertex(&l.segments[k], &l.segments[next], tol) {
+                    simple_next[first + k] = (first + next) as u32;
+                }
+            }
+        }
+        first += n;
+    }
+    // Per loop: where it crosses, and whether itself. Of several crossings the message names
+    // the lowest-left one, so that it does not depend on the order pairs are found in.
+    let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()];
+    let note = |slot: &mut Option<(Point, bool)>, at: Point, itself: bool| {
+        if slot.is_none_or(|(p, _)| (at.x, at.y) < (p.x, p.y)) {
+            *slot = Some((at, itself));
+        }
+    };
     if items.len() >= 2 && all.min.is_finite() && all.max.is_finite() {
         let boxes: Vec<BBox> = items.iter().map(|it| it.bbox).collect();
         let _ = for_each_overlapping_pair(&all, &boxes, tol, |i, j| {
+            if simple_next[i as usize] == j || simple_next[j as usize] == i {
+                return;
+            }
             let (it, jt) = (&items[i as usize], &items[j as usize]);
             if !it.bbox.overlaps(&jt.bbox, tol) {
                 return;
@@ -77,23 +106,14 @@ pub fn drop_crossing_loops(
             let (l1, l2) = (&loops[it.lp as usize], &loops[jt.lp as usize]);
             let (s1, s2) = (&l1.segments[it.sg as usize], &l2.segments[jt.sg as usize]);
             if it.lp == jt.lp {
-                if it.sg == jt.sg
-                    || neighbours_only_share_their_vertex(
-                        l1.segments.len(),
-                        it.sg,
-                        jt.sg,
-                        s1,
-                        s2,
-                        tol,
-                    )
-                {
+                if it.sg == jt.sg {
                     return;
                 }
                 // Points of one loop that are close along the loop (a shared vertex, a
                 // fillet shorter than the tolerance) are neighbours, not a crossing.
                 for h in intersections(s1, s2, tol) {
                     if !close_along_loop(&l1.segments, (it.sg, h.t1), (jt.sg, h.t2), 4.0 * tol) {
-                        bad[it.lp as usize].get_or_insert((h.at, true));
+                        note(&mut bad[it.lp as usize], h.at, true);
                     }
                 }
             } else {
@@ -102,8 +122,8 @@ pub fn drop_crossing_loops(
                     let at_end2 = h.at.dist(s2.start()) <= tol || h.at.dist(s2.end()) <= tol;
                     let touch = at_end1 || at_end2 || is_tangent(s1, s2, h.at, tol);
                     if !touch {
-                        bad[it.lp as usize].get_or_insert((h.at, false));
-                        bad[jt.lp as usize].get_or_insert((h.at, false));
+                        note(&mut bad[it.lp as usize], h.at, false);
+                        note(&mut bad[jt.lp as usize], h.at, false);
                     }
                 }
             }
@@ -377,38 +397,33 @@ impl SegmentGrid {
     }
 }
 
-/// Fast path: two neighbours in a loop of three or more segments, where a line is one of
-/// them, meet only at their shared vertex unless the line reaches the other segment again:
-/// a second line turning back along the first, or a line cutting the arc's circle a second
-/// time within its length.
-fn neighbours_only_share_their_vertex(
-    n: usize,
-    i: u32,
-    j: u32,
-    s1: &super::Segment,
-    s2: &super::Segment,
-    tol: f64,
-) -> bool {
-    use super::Segment;
-    let n = n as u32;
-    if n < 3 {
-        return false;
-    }
-    // (first, second): the second starts where the first ends.
-    let (first, second) = if j == (i + 1) % n {
-        (s1, s2)
-    } else if i == (j + 1) % n {
-        (s2, s1)
-    } else {
-        return false;
-    };
-    // A line and a circle through one of its ends `v`: the other crossing lies at distance
-    // s = −2·u·(v − c) from `v` along the unit direction u towards the line's far end.
+/// Whether `second`, which starts where `first` ends, meets `first` only at that shared
+/// vertex, decided cheaply; `false` means "maybe not", for the full test. For two segments
+/// of a loop of three or more.
+///
+/// - Two lines meet elsewhere only when the second turns back along the first.
+/// - A line and a circle through one of its ends `v` meet again at distance
+///   s = −2·u·(v − c) from `v` along the unit direction u towards the line's far end; only
+///   an s within the line's length can be a second meeting point.
+/// - Two circles through a common point `v` meet again at the mirror image of `v` in the
+///   line through their centres; the arcs meet there only if it lies on both. A point `w`
+///   of a circle lies on the arc from `s` to `e` (counter-clockwise) exactly when it is on
+///   the right of the chord s→e, on the left for a clockwise arc.
+fn only_share_their_vertex(first: &Segment, second: &Segment, tol: f64) -> bool {
     let other_crossing_beyond = |v: Point, far: Point, c: Point| {
         let d = far - v;
         let len = d.norm();
         let s = -2.0 * (d * (1.0 / len)).dot(v - c);
         s <= tol || s > len + tol
+    };
+    // Whether `w` (on the arc's circle) is off the arc by more than `tol` beyond its chord.
+    let clearly_off = |arc: &super::Arc, w: Point| {
+        let chord = arc.end - arc.start;
+        let len = chord.norm();
+        len > tol && !arc.is_full_circle() && {
+            let side = chord.cross(w - arc.start) / len;
+            side * arc.sweep.signum() > tol
+        }
     };
     match (first, second) {
         (Segment::Line { a, b }, Segment::Line { a: c, b: d }) => {
@@ -419,7 +434,20 @@ fn neighbours_only_share_their_vertex(
         }
         (Segment::Line { a, b }, Segment::Arc(arc)) => other_crossing_beyond(*b, *a, arc.center),
         (Segment::Arc(arc), Segment::Line { a, b }) => other_crossing_beyond(*a, *b, arc.center),
-        _ => false,
+        (Segment::Arc(x), Segment::Arc(y)) => {
+            let v = x.end;
+            let axis = y.center - x.center;
+            let len = axis.norm();
+            if len <= tol {
+                return false; // one circle: overlapping arcs need the full test
+            }
+            let u = axis * (1.0 / len);
+            let foot = x.center + u * u.dot(v - x.center);
+            let w = foot * 2.0 - v;
+            // Circles (nearly) tangent at v meet nowhere else, but their arcs may run
+            // within the tolerance of each other for a while: the full test decides.
+            w.dist(v) > 8.0 * tol && (clearly_off(x, w) || clearly_off(y, w))
+        }
     }
 }
 
@@ -610,6 +638,7 @@ impl BoxGrid {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::geom::Arc;
 
     /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
     fn uniform(seed: u64) -> impl FnMut() -> f64 {
@@ -690,6 +719,70 @@ mod tests {
             });
             assert_eq!(gridded, expected, "grid, n = {n}");
         }
+    }
+
+    /// Random pairs of segments where the second starts at the end of the first: whenever the
+    /// quick test says they only share that vertex, the full intersection test finds them
+    /// meeting nowhere else (beyond a few tolerances from it).
+    #[test]
+    fn quick_vertex_test_agrees_with_the_full_intersection_test() {
+        let mut r = uniform(7);
+        let tol = 1e-6;
+        let (mut quick, mut agreed_maybe) = (0, 0);
+        for k in 0..20_000 {
+            let v = Point::new(10.0 * r() - 5.0, 10.0 * r() - 5.0);
+            let mut point = || Point::new(10.0 * r() - 5.0, 10.0 * r() - 5.0);
+            let (p, q) = (point(), point());
+            let mut sweep = || (r() * 6.0 + 0.05) * if r() < 0.5 { -1.0 } else { 1.0 };
+            // An arc through `v` about `c`, ending at `v` (or starting there).
+            let arc_to = |c: Point, sw: f64| {
+                let d = v - c;
+                let end_angle = d.y.atan2(d.x);
+                Segment::Arc(Arc::from_center(c, d.norm(), end_angle - sw, sw))
+            };
+            let arc_from = |c: Point, sw: f64| {
+                let d = v - c;
+                Segment::Arc(Arc::from_center(c, d.norm(), d.y.atan2(d.x), sw))
+            };
+            let (s1, s2) = match k % 4 {
+                0 => (Segment::line(p, v), Segment::line(v, q)),
+                1 => (Segment::line(p, v), arc_from(q, sweep())),
+                2 => (arc_to(p, sweep()), Segment::line(v, q)),
+                _ => (arc_to(p, sweep()), arc_from(q, sweep())),
+            };
+            // The arcs' stored end points come from sin/cos: join them exactly at `v`.
+            let s1 = match s1 {
+                Segment::Arc(mut a) => {
+                    a.end = v;
+                    Segment::Arc(a)
+                }
+                l => l,
+            };
+            let s2 = match s2 {
+                Segment::Arc(mut a) => {
+                    a.start = v;
+                    Segment::Arc(a)
+                }
+                l => l,
+            };
+            if only_share_their_vertex(&s1, &s2, tol) {
+                quick += 1;
+                for h in intersections(&s1, &s2, tol) {
+                    assert!(
+                        h.at.dist(v) <= 4.0 * tol,
+                        "case {k}: {s1:?} and {s2:?} also meet at {:?}",
+                        h.at
+                    );
+                }
+            } else {
+                agreed_maybe += 1;
+            }
+        }
+        // Most random pairs are decided by the quick test; some go to the full one.
+        assert!(
+            quick > 12_000 && agreed_maybe > 500,
+            "{quick} quick, {agreed_maybe} full"
+        );
     }
 
     #[test]
