@@ -21,7 +21,7 @@
 //! example the centre of its bounding box) so that drawings far from (0, 0) keep full
 //! precision.
 
-use super::segment::{Arc, Point, Segment};
+use super::segment::{rotated, Arc, Point, Segment};
 use std::f64::consts::PI;
 use std::ops::{Add, AddAssign, Mul};
 
@@ -180,7 +180,7 @@ pub fn arc_moments(arc: &Arc, origin: Point) -> Moments {
         // A counter-clockwise arc lies to the right of its chord.
         Point::new(d.y, -d.x) * sign
     } else {
-        Point::polar(arc.start_angle + arc.sweep / 2.0)
+        rotated(arc.start - arc.center, arc.sweep / 2.0) * (1.0 / r)
     };
     let eu = Point::new(-ev.y, ev.x);
     let m = (p + q) * 0.5;

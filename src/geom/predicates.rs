@@ -16,7 +16,7 @@ pub struct Hit {
 /// than `ang_tol` radians.
 fn arc_fraction(arc: &Arc, angle: f64, ang_tol: f64) -> Option<f64> {
     let sweep = arc.sweep.abs();
-    let rel = wrap_tau((angle - arc.start_angle) * arc.sweep.signum());
+    let rel = wrap_tau((angle - arc.start_angle()) * arc.sweep.signum());
     if rel <= sweep + ang_tol {
         Some((rel / sweep).min(1.0))
     } else if rel >= TAU - ang_tol {
@@ -213,8 +213,9 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
                 let mut cuts = [0.0f64; 6];
                 let mut n_cuts = 1;
                 let sweep = arc.sweep;
+                let start_angle = arc.start_angle();
                 for k in [PI / 2.0, 3.0 * PI / 2.0] {
-                    let mut rel = wrap_tau((k - arc.start_angle) * sweep.signum());
+                    let mut rel = wrap_tau((k - start_angle) * sweep.signum());
                     while rel < sweep.abs() && n_cuts < 5 {
                         if rel > 0.0 {
                             cuts[n_cuts] = rel / sweep.abs();

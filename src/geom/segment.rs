@@ -64,6 +64,12 @@ impl Neg for Point {
     }
 }
 
+/// `v` turned counter-clockwise by `angle` radians.
+pub fn rotated(v: Point, angle: f64) -> Point {
+    let (s, c) = angle.sin_cos();
+    Point::new(v.x * c - v.y * s, v.x * s + v.y * c)
+}
+
 /// `x` reduced to [0, 2π). Angles here are within a few turns of zero, where adding or
 /// subtracting whole turns is exact enough and much cheaper than `rem_euclid` (a call to
 /// `fmod`); anything larger falls back to it.
@@ -153,8 +159,6 @@ pub struct Arc {
     pub radius: f64,
     pub start: Point,
     pub end: Point,
-    /// Angle of `start` seen from `center`, radians.
-    pub start_angle: f64,
     pub sweep: f64,
 }
 
@@ -172,7 +176,6 @@ impl Arc {
             radius,
             start,
             end,
-            start_angle,
             sweep: sweep.clamp(-TAU, TAU),
         }
     }
@@ -203,13 +206,11 @@ impl Arc {
         let left = Point::new(-chord.y, chord.x) * (1.0 / c);
         let offset = radius * cos_half * sweep.signum();
         let center = (start + end) * 0.5 + left * offset;
-        let start_angle = (start - center).y.atan2((start - center).x);
         Some(Arc {
             center,
             radius,
             start,
             end,
-            start_angle,
             sweep,
         })
     }
@@ -222,9 +223,16 @@ impl Arc {
         self.radius * self.sweep.abs()
     }
 
-    /// Point at fraction `t` in [0, 1] of the sweep.
+    /// Angle of `start` seen from `center`, radians (computed: most arcs never need it).
+    pub fn start_angle(&self) -> f64 {
+        let d = self.start - self.center;
+        d.y.atan2(d.x)
+    }
+
+    /// Point at fraction `t` in [0, 1] of the sweep: `start` turned about `center` by
+    /// `t·sweep`.
     pub fn point_at(&self, t: f64) -> Point {
-        self.center + Point::polar(self.start_angle + self.sweep * t) * self.radius
+        self.center + rotated(self.start - self.center, self.sweep * t)
     }
 
     /// Whether the direction `angle` (radians) lies within the sweep.
@@ -232,8 +240,24 @@ impl Arc {
         if self.is_full_circle() {
             return true;
         }
-        let rel = (angle - self.start_angle) * self.sweep.signum();
+        let rel = (angle - self.start_angle()) * self.sweep.signum();
         wrap_tau(rel) <= self.sweep.abs()
+    }
+
+    /// Whether `w`, a point of the arc's circle, lies on the arc: the circle's points on the
+    /// arc are those on the right of the chord start → end for a counter-clockwise arc (on
+    /// the left for a clockwise one), whatever the sweep; no angles needed. For an arc
+    /// whose ends nearly meet the chord gives no direction, and the angle decides.
+    pub fn holds_circle_point(&self, w: Point) -> bool {
+        if self.is_full_circle() {
+            return true;
+        }
+        let chord = self.end - self.start;
+        if chord.dot(chord) < 1e-12 * self.radius * self.radius {
+            let d = w - self.center;
+            return self.contains_angle(d.y.atan2(d.x));
+        }
+        self.sweep.signum() * chord.cross(w - self.start) <= 0.0
     }
 
     pub fn reversed(&self) -> Arc {
@@ -242,7 +266,6 @@ impl Arc {
             radius: self.radius,
             start: self.end,
             end: self.start,
-            start_angle: self.start_angle + self.sweep,
             sweep: -self.sweep,
         }
     }
@@ -269,10 +292,11 @@ impl Arc {
         let mut b = BBox::EMPTY;
         b.add_point(self.start);
         b.add_point(self.end);
-        for k in 0..4 {
-            let a = k as f64 * PI / 2.0;
-            if self.contains_angle(a) {
-                b.add_point(self.center + Point::polar(a) * self.radius);
+        let r = self.radius;
+        for d in [(r, 0.0), (0.0, r), (-r, 0.0), (0.0, -r)] {
+            let w = self.center + Point::new(d.0, d.1);
+            if self.holds_circle_point(w) {
+                b.add_point(w);
             }
         }
         b
@@ -371,13 +395,79 @@ impl Segment {
                 radius: arc.radius * s.abs(),
                 start: arc.start * s,
                 end: arc.end * s,
-                start_angle: if s < 0.0 {
-                    arc.start_angle + PI
-                } else {
-                    arc.start_angle
-                },
                 sweep: arc.sweep,
             }),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
+    fn uniform(seed: u64) -> impl FnMut() -> f64 {
+        let mut s = seed;
+        move || {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        }
+    }
+
+    fn random_arc(r: &mut impl FnMut() -> f64) -> Arc {
+        let center = Point::new(200.0 * r() - 100.0, 200.0 * r() - 100.0);
+        let sweep = (0.01 + r() * (TAU - 0.02)) * if r() < 0.5 { -1.0 } else { 1.0 };
+        Arc::from_center(center, 0.1 + 50.0 * r(), TAU * r() - PI, sweep)
+    }
+
+    #[test]
+    fn the_chord_side_test_agrees_with_the_angle_test() {
+        let mut r = uniform(11);
+        for _ in 0..5000 {
+            let arc = random_arc(&mut r);
+            for _ in 0..8 {
+                let a = TAU * r();
+                let w = arc.center + Point::polar(a) * arc.radius;
+                // Away from the ends, where rounding could go either way.
+                if w.dist(arc.start).min(w.dist(arc.end)) < 1e-6 * arc.radius {
+                    continue;
+                }
+                assert_eq!(
+                    arc.holds_circle_point(w),
+                    arc.contains_angle(a),
+                    "{arc:?} at {a}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn exact_box_holds_the_arc_and_touches_it_on_every_side() {
+        let mut r = uniform(12);
+        for _ in 0..2000 {
+            let arc = random_arc(&mut r);
+            let b = arc.bbox();
+            let mut seen = BBox::EMPTY;
+            for k in 0..=4000 {
+                let p = arc.point_at(k as f64 / 4000.0);
+                seen.add_point(p);
+                assert!(
+                    b.contains_box(&BBox { min: p, max: p }, 1e-9 * arc.radius),
+                    "{arc:?}"
+                );
+            }
+            // Sampling every 1/4000 of the sweep misses an extreme by at most r·(1 − cos(π/4000)).
+            let slack = arc.radius * 1e-6;
+            assert!((seen.min.x - b.min.x).abs() <= slack && (seen.max.x - b.max.x).abs() <= slack);
+            assert!((seen.min.y - b.min.y).abs() <= slack && (seen.max.y - b.max.y).abs() <= slack);
+            // And the loose box holds the exact one.
+            assert!(arc.loose_bbox().contains_box(&b, 1e-9 * arc.radius));
+            // point_at by rotation agrees with the angle form.
+            let p = arc.point_at(0.3);
+            let q = arc.center + Point::polar(arc.start_angle() + 0.3 * arc.sweep) * arc.radius;
+            assert!(p.dist(q) <= 1e-12 * (arc.radius + arc.center.norm()));
         }
     }
 }

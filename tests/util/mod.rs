@@ -144,13 +144,11 @@ impl Similarity {
                 let center = self.apply(arc.center);
                 let start = self.apply(arc.start);
                 let end = self.apply(arc.end);
-                let v = start - center;
                 Segment::Arc(Arc {
                     center,
                     radius: arc.radius * self.scale.abs(),
                     start,
                     end,
-                    start_angle: v.y.atan2(v.x),
                     sweep: if self.mirror_x { -arc.sweep } else { arc.sweep },
                 })
             }
