@@ -44,12 +44,20 @@ fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> std::io::Result<()> {
     Ok(())
 }
 
-/// Measure every file; rows come back ordered by file (as given), then profile.
-pub fn run_batch(
+/// Every file measured: its rows, ordered by file (as given) then profile, and the same rows
+/// rendered by `render` (on the worker threads, so that the output is only joined at the end).
+pub struct BatchOutput<T> {
+    pub rows: Vec<Row>,
+    pub rendered: Vec<T>,
+}
+
+/// Measure every file, rendering each file's rows with `render` as they come.
+pub fn run_batch<T: Send>(
     files: &[PathBuf],
     settings: &Settings,
     jobs: Option<usize>,
-) -> anyhow::Result<Vec<Row>> {
+    render: impl Fn(&[Row]) -> T + Sync,
+) -> anyhow::Result<BatchOutput<T>> {
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(jobs.unwrap_or(0))
         .build()
@@ -62,19 +70,28 @@ pub fn run_batch(
     // Panics inside one file become an error row; keep the default hook from printing them.
     let previous_hook = std::panic::take_hook();
     std::panic::set_hook(Box::new(|_| {}));
-    let per_file: Vec<Vec<Row>> = pool.install(|| {
+    let per_file: Vec<(Vec<Row>, T)> = pool.install(|| {
         files
             .par_iter()
             .map(|path| {
                 let rows = measure_file(path, settings);
+                let rendered = render(&rows);
                 bar.inc(1);
-                rows
+                (rows, rendered)
             })
             .collect()
     });
     std::panic::set_hook(previous_hook);
     bar.finish_and_clear();
-    Ok(per_file.into_iter().flatten().collect())
+    let mut out = BatchOutput {
+        rows: Vec::with_capacity(per_file.iter().map(|(r, _)| r.len()).sum()),
+        rendered: Vec::with_capacity(per_file.len()),
+    };
+    for (rows, rendered) in per_file {
+        out.rows.extend(rows);
+        out.rendered.push(rendered);
+    }
+    Ok(out)
 }
 
 /// All rows of one file; never panics.

@@ -13,7 +13,7 @@ use anyhow::{bail, Context};
 
 use crate::analyze::Settings;
 use crate::import::{LengthUnit, ReadOptions};
-use crate::report::{write_csv, CsvFormat};
+use crate::report::{csv_header, csv_records, CsvFormat};
 use args::{Cli, Command, MeasureArgs, UnitArg};
 
 /// Exit status: every profile measured.
@@ -80,21 +80,34 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         merge: args.merge,
         assume_units: unit(args.assume_units),
     };
-    let rows = batch::run_batch(&files, &settings, args.jobs)?;
     let format = CsvFormat {
         unit: unit(args.units),
         delimiter,
         decimal_comma: args.decimal_comma,
         density_kg_m3: args.density,
     };
+    let batch = batch::run_batch(&files, &settings, args.jobs, |rows| {
+        csv_records(rows, &format)
+    })?;
+    let rows = batch.rows;
+    let write = |w: &mut dyn Write| -> std::io::Result<()> {
+        w.write_all(&csv_header(&format)?)?;
+        for chunk in &batch.rendered {
+            w.write_all(
+                chunk
+                    .as_ref()
+                    .map_err(|e| std::io::Error::new(e.kind(), e.to_string()))?,
+            )?;
+        }
+        w.flush()
+    };
     match &args.output {
-        Some(path) => write_atomically(path, |w| write_csv(w, &rows, &format))
+        Some(path) => write_atomically(path, |w| write(w))
             .with_context(|| format!("cannot write {}", path.display()))?,
         None => {
             let stdout = std::io::stdout();
             let mut lock = stdout.lock();
-            write_csv(&mut lock, &rows, &format).context("cannot write to standard output")?;
-            lock.flush().ok();
+            write(&mut lock).context("cannot write to standard output")?;
         }
     }
     let errors = rows.iter().filter(|r| r.outcome.result.is_err()).count();

@@ -26,12 +26,34 @@ impl Default for CsvFormat {
 }
 
 /// Write the header and one record per row.
-pub fn write_csv<W: Write>(out: W, rows: &[Row], fmt: &CsvFormat) -> std::io::Result<()> {
-    let mut w = csv::WriterBuilder::new()
+pub fn write_csv<W: Write>(mut out: W, rows: &[Row], fmt: &CsvFormat) -> std::io::Result<()> {
+    out.write_all(&csv_header(fmt)?)?;
+    out.write_all(&csv_records(rows, fmt)?)?;
+    out.flush()
+}
+
+fn writer<W: Write>(out: W, fmt: &CsvFormat) -> csv::Writer<W> {
+    csv::WriterBuilder::new()
         .delimiter(fmt.delimiter)
         .terminator(csv::Terminator::CRLF)
-        .from_writer(out);
+        .from_writer(out)
+}
+
+fn into_bytes(w: csv::Writer<Vec<u8>>) -> std::io::Result<Vec<u8>> {
+    w.into_inner().map_err(|e| e.into_error())
+}
+
+/// The header record alone.
+pub fn csv_header(fmt: &CsvFormat) -> std::io::Result<Vec<u8>> {
+    let mut w = writer(Vec::new(), fmt);
     w.write_record(header(fmt.unit))?;
+    into_bytes(w)
+}
+
+/// The records of `rows` without the header: the batch formats each file's rows on its
+/// worker thread and the output joins them, header first.
+pub fn csv_records(rows: &[Row], fmt: &CsvFormat) -> std::io::Result<Vec<u8>> {
+    let mut w = writer(Vec::new(), fmt);
     // One buffer for the formatted numbers of a row, reused: no allocation per field.
     let mut num = String::new();
     for row in rows {
@@ -62,8 +84,7 @@ pub fn write_csv<W: Write>(out: W, rows: &[Row], fmt: &CsvFormat) -> std::io::Re
         }
         w.write_record(None::<&[u8]>)?;
     }
-    w.flush()?;
-    Ok(())
+    into_bytes(w)
 }
 
 /// [`push_number`] into a new string.

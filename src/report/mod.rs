@@ -4,7 +4,7 @@
 
 pub mod csv_out;
 
-pub use csv_out::{write_csv, CsvFormat};
+pub use csv_out::{csv_header, csv_records, write_csv, CsvFormat};
 
 use crate::analyze::Outcome;
 use crate::import::LengthUnit;
