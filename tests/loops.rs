@@ -284,3 +284,42 @@ fn a_hole_tangent_to_the_outline_touches_but_does_not_cross() {
     assert_eq!(s.n_holes, 1);
     assert_close!(s.area, 100.0 - 25.0 * PI, rel = 1e-13);
 }
+
+#[test]
+fn a_circle_drawn_as_two_half_arcs_is_not_a_duplicate() {
+    // Two ARCs of the same circle between the same two points, each a half turn: the same
+    // ends, centre and sweep size, but different halves.
+    let c = p(5.0, 5.0);
+    let halves = vec![
+        open(vec![Segment::Arc(Arc::from_center(c, 2.0, 0.0, PI))]),
+        open(vec![Segment::Arc(Arc::from_center(c, 2.0, PI, PI))]),
+    ];
+    let s = only(halves);
+    // Area of a circle, πr².
+    assert_close!(s.area, PI * 4.0, rel = 1e-12);
+}
+
+#[test]
+fn a_loose_segment_drawn_twice_either_way_counts_once() {
+    // A triangle of loose lines whose first edge is drawn three times (once reversed), and
+    // a stray line drawn twice beside it.
+    let mut pieces = vec![
+        line((0.0, 0.0), (30.0, 0.0)),
+        line((30.0, 0.0), (0.0, 0.0)),
+        line((0.0, 0.0), (30.0, 0.0)),
+        line((30.0, 0.0), (0.0, 40.0)),
+        line((0.0, 40.0), (0.0, 0.0)),
+    ];
+    pieces.push(line((50.0, 0.0), (50.0, 40.0)));
+    pieces.push(line((50.0, 0.0), (50.0, 40.0)));
+    let out = measure(pieces);
+    assert_eq!(out.len(), 1, "{out:#?}");
+    let s = out[0].result.as_ref().expect("ok row");
+    // Right triangle, legs 30 and 40: area ½·30·40.
+    assert_close!(s.area, 600.0, rel = 1e-13);
+    assert!(
+        out[0].message.contains("3 duplicate entities removed"),
+        "{}",
+        out[0].message
+    );
+}

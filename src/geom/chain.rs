@@ -182,6 +182,13 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
         if kept.is_empty() {
             continue;
         }
+        // A single loose segment (a LINE or ARC entity, most of a sheet) goes straight on:
+        // its twins are found in `link`, where they join the same two nodes.
+        if !piece.closed && kept.len() == 1 {
+            next_same.push(NONE);
+            store.push((kept, false, pi));
+            continue;
+        }
         // Fingerprint: the run's box, quantised like the keys; cheap, and equal for twins.
         let bb = kept
             .iter()
@@ -218,7 +225,7 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
             open.push((segs, pi));
         }
     }
-    link(&open, &meta, join_gap, &mut out);
+    link(open, &meta, join_gap, &mut out);
     out
 }
 
@@ -263,13 +270,24 @@ fn seg_key(s: &Segment, q: f64) -> SegKey {
     let cell = |p: Point| (round(p.x / q), round(p.y / q));
     let (a, b) = (cell(s.start()), cell(s.end()));
     let (a, b) = if a <= b { (a, b) } else { (b, a) };
-    // Lines are told apart by their ends; arcs also by their centre and the size of their
-    // sweep (direction-free), which needs no trigonometry.
+    // Lines are told apart by their ends; arcs also by their midpoint (two arcs of one
+    // circle between the same points, such as the halves of a circle, differ there) and the
+    // size of their sweep. Both are direction-free and need no trigonometry: a
+    // counter-clockwise arc lies to the right of its chord, so its midpoint is the centre plus
+    // r times the chord's right normal (left for a clockwise one); reversing the arc turns
+    // both the chord and the sweep round.
     let third = match s {
         Segment::Line { .. } => (0, 0),
         Segment::Arc(arc) => {
-            let c = cell(arc.center);
-            (c.0, c.1 ^ round(arc.sweep.abs() * 1e9))
+            let d = arc.end - arc.start;
+            let len = d.norm();
+            let mid = if len > 0.0 {
+                arc.center + Point::new(d.y, -d.x) * (arc.radius * arc.sweep.signum() / len)
+            } else {
+                arc.center
+            };
+            let m = cell(mid);
+            (m.0, m.1 ^ round(arc.sweep.abs() * 1e9))
         }
     };
     [a, b, third]
@@ -421,10 +439,11 @@ impl Nodes {
     }
 }
 
-fn link(runs: &[(Vec<Segment>, usize)], meta: &[Meta], join_gap: f64, out: &mut Chained) {
+fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mut Chained) {
     if runs.is_empty() {
         return;
     }
+    let runs = &runs[..];
     let mut nodes = Nodes {
         cell: (16.0 * join_gap).max(f64::MIN_POSITIVE),
         join_gap,
@@ -457,6 +476,46 @@ fn link(runs: &[(Vec<Segment>, usize)], meta: &[Meta], join_gap: f64, out: &mut 
         fill[b as usize] += 1;
     }
     let touching = |n: u32| &adj[offset[n as usize]..offset[n as usize + 1]];
+
+    // Single segments drawn twice, either way round: twins join the same two nodes and have
+    // the same key. Dropped (and counted), then the rest is linked afresh.
+    let q = join_gap.max(f64::MIN_POSITIVE);
+    let mut twin = vec![false; runs.len()];
+    let mut twins = 0;
+    for n in 0..n_nodes as u32 {
+        let t = touching(n);
+        for (k, &r1) in t.iter().enumerate() {
+            for &r2 in &t[k + 1..] {
+                let (r1, r2) = (r1.min(r2) as usize, r1.max(r2) as usize);
+                let (a, b) = (&runs[r1].0, &runs[r2].0);
+                if r1 == r2 || twin[r1] || twin[r2] || a.len() != 1 || b.len() != 1 {
+                    continue;
+                }
+                let other = |r: usize| {
+                    let (x, y) = ends[r];
+                    if x == n {
+                        y
+                    } else {
+                        x
+                    }
+                };
+                if other(r1) == other(r2) && seg_key(&a[0], q) == seg_key(&b[0], q) {
+                    twin[r2] = true;
+                    twins += 1;
+                }
+            }
+        }
+    }
+    if twins > 0 {
+        out.duplicates += twins;
+        let kept: Vec<(Vec<Segment>, usize)> = runs
+            .iter()
+            .zip(&twin)
+            .filter(|(_, &t)| !t)
+            .map(|(r, _)| r.clone())
+            .collect();
+        return link(kept, meta, join_gap, out);
+    }
     let bbox_of = |r: &[Segment]| r.iter().fold(BBox::EMPTY, |b, s| b.union(&s.bbox()));
     let mut used = vec![false; runs.len()];
 
