@@ -220,37 +220,39 @@ fn for_each_overlapping_pair(
         order[fill[k] as usize] = i as u32;
         fill[k] += 1;
     }
-    // In sweep order: the box grown by `tol` (so that the tests below are `tol`-wide like
-    // `BBox::overlaps`), the slice of its left edge, and the end in `order` of the slice of
-    // its right edge: boxes from there on start to its right.
-    let sorted: Vec<(BBox, u32, u32)> = order
+    // In sweep order: the box grown by `tol / 2` on every side (so that two grown boxes
+    // overlap exactly when the boxes are within `tol`, as `BBox::overlaps` says), and the end
+    // in `order` of the slice of its right edge: boxes from there on start to its right.
+    let half = 0.5 * tol;
+    let sorted: Vec<(BBox, u32)> = order
         .iter()
         .map(|&i| {
             let b = boxes[i as usize];
             let grown = BBox {
-                min: Point::new(b.min.x - tol, b.min.y - tol),
-                max: Point::new(b.max.x + tol, b.max.y + tol),
+                min: Point::new(b.min.x - half, b.min.y - half),
+                max: Point::new(b.max.x + half, b.max.y + half),
             };
-            (grown, slice(b.min.x) as u32, start[slice(grown.max.x) + 1])
+            (grown, start[slice(b.max.x + tol) + 1])
         })
         .collect();
     let pairs: usize = sorted
         .iter()
         .enumerate()
-        .map(|(a, &(_, _, end))| (end as usize).saturating_sub(a + 1))
+        .map(|(a, &(_, end))| (end as usize).saturating_sub(a + 1))
         .sum();
     if pairs > SWEEP_PAIRS_PER_BOX * n {
         SegmentGrid::new(all, boxes.iter().copied(), tol).for_each_pair(f);
         return PairSearch::Grid;
     }
-    for (a, (b, _, end)) in sorted.iter().enumerate() {
-        for c in a + 1..*end as usize {
-            let o = &sorted[c].0;
-            if o.min.x <= b.max.x - tol
-                && b.min.x <= o.max.x - tol
-                && o.min.y <= b.max.y - tol
-                && b.min.y <= o.max.y - tol
-            {
+    for (a, (b, end)) in sorted.iter().enumerate() {
+        for (c, (o, _)) in sorted.iter().enumerate().take(*end as usize).skip(a + 1) {
+            // One branch on the whole test (`&` does not short-circuit): the four outcomes
+            // are hard to predict, their conjunction less so.
+            let hit = (o.min.x <= b.max.x)
+                & (b.min.x <= o.max.x)
+                & (o.min.y <= b.max.y)
+                & (b.min.y <= o.max.y);
+            if hit {
                 f(order[a], order[c]);
             }
         }
