@@ -47,31 +47,32 @@ pub fn drop_crossing_loops(
     tol: f64,
     problems: &mut Vec<LoopProblem>,
 ) -> Vec<Loop> {
-    struct Item {
-        lp: u32,
-        sg: u32,
-        bbox: BBox,
-    }
+    // Items: every segment of every loop, numbered loop after loop; `first_item[l]` is the
+    // number of loop l's first segment, and the boxes are the segments' loose boxes.
     let n_items: usize = loops.iter().map(|l| l.segments.len()).sum();
-    let mut items: Vec<Item> = Vec::with_capacity(n_items);
+    let mut boxes: Vec<BBox> = Vec::with_capacity(n_items);
+    let mut first_item: Vec<u32> = Vec::with_capacity(loops.len() + 1);
     let mut all = BBox::EMPTY;
-    for (li, l) in loops.iter().enumerate() {
-        for (si, s) in l.segments.iter().enumerate() {
+    for l in &loops {
+        first_item.push(boxes.len() as u32);
+        for s in &l.segments {
             let bbox = s.loose_bbox();
             all = all.union(&bbox);
-            items.push(Item {
-                lp: li as u32,
-                sg: si as u32,
-                bbox,
-            });
+            boxes.push(bbox);
         }
     }
+    first_item.push(boxes.len() as u32);
+    // (loop, segment) of an item; only asked for the few pairs that need a full test.
+    let locate = |i: u32| {
+        let lp = first_item.partition_point(|&f| f <= i) - 1;
+        (lp, i - first_item[lp])
+    };
     // Items are numbered along each loop. Most overlapping pairs are a segment and the next
     // one of its loop, which usually meet only at their shared vertex: that is checked once
     // per vertex here, and such pairs are passed over below. `simple_next[i]` is the item
     // after item i when they only share their vertex, else NONE.
     const NONE: u32 = u32::MAX;
-    let mut simple_next = vec![NONE; items.len()];
+    let mut simple_next = vec![NONE; n_items];
     let mut first = 0;
     for l in &loops {
         let n = l.segments.len();
@@ -93,27 +94,24 @@ pub fn drop_crossing_loops(
             *slot = Some((at, itself));
         }
     };
-    if items.len() >= 2 && all.min.is_finite() && all.max.is_finite() {
-        let boxes: Vec<BBox> = items.iter().map(|it| it.bbox).collect();
+    if n_items >= 2 && all.min.is_finite() && all.max.is_finite() {
         let _ = for_each_overlapping_pair(&all, &boxes, tol, |i, j| {
-            if simple_next[i as usize] == j || simple_next[j as usize] == i {
+            if i == j
+                || simple_next[i as usize] == j
+                || simple_next[j as usize] == i
+                || !boxes[i as usize].overlaps(&boxes[j as usize], tol)
+            {
                 return;
             }
-            let (it, jt) = (&items[i as usize], &items[j as usize]);
-            if !it.bbox.overlaps(&jt.bbox, tol) {
-                return;
-            }
-            let (l1, l2) = (&loops[it.lp as usize], &loops[jt.lp as usize]);
-            let (s1, s2) = (&l1.segments[it.sg as usize], &l2.segments[jt.sg as usize]);
-            if it.lp == jt.lp {
-                if it.sg == jt.sg {
-                    return;
-                }
+            let ((lp1, sg1), (lp2, sg2)) = (locate(i), locate(j));
+            let (l1, l2) = (&loops[lp1], &loops[lp2]);
+            let (s1, s2) = (&l1.segments[sg1 as usize], &l2.segments[sg2 as usize]);
+            if lp1 == lp2 {
                 // Points of one loop that are close along the loop (a shared vertex, a
                 // fillet shorter than the tolerance) are neighbours, not a crossing.
                 for h in intersections(s1, s2, tol) {
-                    if !close_along_loop(&l1.segments, (it.sg, h.t1), (jt.sg, h.t2), 4.0 * tol) {
-                        note(&mut bad[it.lp as usize], h.at, true);
+                    if !close_along_loop(&l1.segments, (sg1, h.t1), (sg2, h.t2), 4.0 * tol) {
+                        note(&mut bad[lp1], h.at, true);
                     }
                 }
             } else {
@@ -122,8 +120,8 @@ pub fn drop_crossing_loops(
                     let at_end2 = h.at.dist(s2.start()) <= tol || h.at.dist(s2.end()) <= tol;
                     let touch = at_end1 || at_end2 || is_tangent(s1, s2, h.at, tol);
                     if !touch {
-                        note(&mut bad[it.lp as usize], h.at, false);
-                        note(&mut bad[jt.lp as usize], h.at, false);
+                        note(&mut bad[lp1], h.at, false);
+                        note(&mut bad[lp2], h.at, false);
                     }
                 }
             }
