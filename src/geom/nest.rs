@@ -47,13 +47,46 @@ pub fn drop_crossing_loops(
     tol: f64,
     problems: &mut Vec<LoopProblem>,
 ) -> Vec<Loop> {
+    let bad = crossings(&loops, tol, PairSource::Boxes);
+    let mut kept = Vec::with_capacity(loops.len());
+    for (l, b) in loops.into_iter().zip(bad) {
+        match b {
+            None => kept.push(l),
+            Some((at, true)) => problems.push(LoopProblem::SelfIntersection {
+                at,
+                bbox: l.bbox(),
+                origin: l.origin,
+            }),
+            Some((at, false)) => problems.push(LoopProblem::LoopsCross {
+                at,
+                bbox: l.bbox(),
+                origin: l.origin,
+            }),
+        }
+    }
+    kept
+}
+
+/// Where candidate pairs of segments come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum PairSource {
+    /// Pairs whose loose boxes overlap, from [`for_each_overlapping_pair`].
+    Boxes,
+    /// Every pair of segments (for tests: the reference the box search must agree with).
+    #[cfg(test)]
+    All,
+}
+
+/// For each loop, where it crosses itself or another loop (the lowest-left such point) and
+/// whether it crosses itself; `None` for a loop that crosses nothing.
+fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point, bool)>> {
     // Items: every segment of every loop, numbered loop after loop; `first_item[l]` is the
     // number of loop l's first segment, and the boxes are the segments' loose boxes.
     let n_items: usize = loops.iter().map(|l| l.segments.len()).sum();
     let mut boxes: Vec<BBox> = Vec::with_capacity(n_items);
     let mut first_item: Vec<u32> = Vec::with_capacity(loops.len() + 1);
     let mut all = BBox::EMPTY;
-    for l in &loops {
+    for l in loops {
         first_item.push(boxes.len() as u32);
         for s in &l.segments {
             let bbox = s.loose_bbox();
@@ -74,7 +107,7 @@ pub fn drop_crossing_loops(
     const NONE: u32 = u32::MAX;
     let mut simple_next = vec![NONE; n_items];
     let mut first = 0;
-    for l in &loops {
+    for l in loops {
         let n = l.segments.len();
         if n >= 3 {
             for k in 0..n {
@@ -95,7 +128,10 @@ pub fn drop_crossing_loops(
         }
     };
     if n_items >= 2 && all.min.is_finite() && all.max.is_finite() {
-        let _ = for_each_overlapping_pair(&all, &boxes, tol, |i, j| {
+        let check = |i: u32, j: u32| {
+            // The lower-numbered segment first: the same pair gives the same rounding of its
+            // meeting point whichever way it was found.
+            let (i, j) = (i.min(j), i.max(j));
             if i == j
                 || simple_next[i as usize] == j
                 || simple_next[j as usize] == i
@@ -125,25 +161,23 @@ pub fn drop_crossing_loops(
                     }
                 }
             }
-        });
-    }
-    let mut kept = Vec::with_capacity(loops.len());
-    for (l, b) in loops.into_iter().zip(bad) {
-        match b {
-            None => kept.push(l),
-            Some((at, true)) => problems.push(LoopProblem::SelfIntersection {
-                at,
-                bbox: l.bbox(),
-                origin: l.origin,
-            }),
-            Some((at, false)) => problems.push(LoopProblem::LoopsCross {
-                at,
-                bbox: l.bbox(),
-                origin: l.origin,
-            }),
+        };
+        match source {
+            PairSource::Boxes => {
+                let _ = for_each_overlapping_pair(&all, &boxes, tol, check);
+            }
+            #[cfg(test)]
+            PairSource::All => {
+                let mut check = check;
+                for i in 0..n_items as u32 {
+                    for j in i + 1..n_items as u32 {
+                        check(i, j);
+                    }
+                }
+            }
         }
     }
-    kept
+    bad
 }
 
 /// Whether two places on a closed loop, each a segment index and a fraction along it, are at
@@ -639,6 +673,7 @@ impl BoxGrid {
 mod tests {
     use super::*;
     use crate::geom::Arc;
+    use std::f64::consts::TAU;
 
     /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
     fn uniform(seed: u64) -> impl FnMut() -> f64 {
@@ -783,6 +818,88 @@ mod tests {
             quick > 12_000 && agreed_maybe > 500,
             "{quick} quick, {agreed_maybe} full"
         );
+    }
+
+    /// A closed loop through `pts`, edge k bulged by `bulges[k]` (0: straight).
+    fn test_loop(pts: &[Point], bulges: &[f64]) -> Loop {
+        let n = pts.len();
+        let segments = (0..n)
+            .map(|k| {
+                let (a, b) = (pts[k], pts[(k + 1) % n]);
+                match Arc::from_bulge(a, b, bulges[k]) {
+                    Some(arc) => Segment::Arc(arc),
+                    None => Segment::line(a, b),
+                }
+            })
+            .collect();
+        Loop {
+            segments,
+            layer: "0".into(),
+            origin: crate::import::Origin {
+                entity: "LWPOLYLINE",
+                location: crate::import::Location::Line(1),
+                handle: None,
+            },
+        }
+    }
+
+    /// The box search finds every crossing that testing all pairs of segments finds,
+    /// on loops of every kind: random polygons (mostly crossing themselves), star-shaped
+    /// ones (simple), with and without bulges, staircases of horizontal and vertical edges,
+    /// and loops that touch or cross each other.
+    #[test]
+    fn the_box_search_misses_no_crossing_that_all_pairs_find() {
+        let mut r = uniform(21);
+        let mut found = [0usize; 2]; // cases with a crossing, without
+        for case in 0..1500 {
+            let n_loops = 1 + case % 3;
+            let mut loops = Vec::new();
+            for _ in 0..n_loops {
+                let (cx, cy) = (20.0 * r(), 20.0 * r());
+                let n = 3 + (r() * 25.0) as usize;
+                let kind = (r() * 4.0) as usize;
+                let pts: Vec<Point> = match kind {
+                    // Random points: mostly self-crossing.
+                    0 => (0..n)
+                        .map(|_| Point::new(cx + 10.0 * r(), cy + 10.0 * r()))
+                        .collect(),
+                    // Star-shaped about (cx, cy): simple.
+                    1 | 2 => (0..n)
+                        .map(|k| {
+                            let a = TAU * (k as f64 + 0.8 * r()) / n as f64;
+                            Point::new(cx, cy) + Point::polar(a) * (3.0 + 5.0 * r())
+                        })
+                        .collect(),
+                    // A staircase: horizontal and vertical edges on a grid.
+                    _ => {
+                        let mut p = Point::new(cx.round(), cy.round());
+                        let mut v = vec![p];
+                        for k in 0..n.max(4) {
+                            let step =
+                                (1.0 + (r() * 4.0).floor()) * if r() < 0.5 { -1.0 } else { 1.0 };
+                            p = if k % 2 == 0 {
+                                p + Point::new(step, 0.0)
+                            } else {
+                                p + Point::new(0.0, step)
+                            };
+                            v.push(p);
+                        }
+                        v
+                    }
+                };
+                let bulges: Vec<f64> = (0..pts.len())
+                    .map(|_| if r() < 0.5 { 0.0 } else { 0.8 * r() - 0.4 })
+                    .collect();
+                loops.push(test_loop(&pts, &bulges));
+            }
+            let tol = 1e-6 * 30.0;
+            let boxes = crossings(&loops, tol, PairSource::Boxes);
+            let all = crossings(&loops, tol, PairSource::All);
+            assert_eq!(boxes, all, "case {case}");
+            found[usize::from(all.iter().all(Option::is_none))] += 1;
+        }
+        // Both outcomes are well represented.
+        assert!(found[0] > 300 && found[1] > 300, "{found:?}");
     }
 
     #[test]
