@@ -396,6 +396,13 @@ impl Nodes {
     /// Cells are sixteen gaps wide, so only a point within one gap of its cell's border needs
     /// the neighbouring cells searched.
     fn id(&mut self, p: Point) -> u32 {
+        // Drawings often list a chain's entities in order, each starting exactly where the
+        // one before ends: then the newest node is the answer (at distance 0, none nearer).
+        if let Some(&last) = self.pos.last() {
+            if last == p {
+                return self.pos.len() as u32 - 1;
+            }
+        }
         let (fx, fy) = (p.x / self.cell, p.y / self.cell);
         let (cx, cy) = (floor_i64(fx), floor_i64(fy));
         let margin = self.join_gap / self.cell;
