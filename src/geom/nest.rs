@@ -8,6 +8,8 @@
 //! by x (a grid when many boxes share an x range), and containment is tested only against
 //! loops whose box holds the candidate's box, found through a uniform grid.
 
+use std::f64::consts::PI;
+
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
 use super::predicates::{intersections, winding_number};
@@ -440,7 +442,8 @@ impl SegmentGrid {
 ///   s = −2·u·(v − c) from `v` along the unit direction u towards the line's far end; only
 ///   an s within the line's length can be a second meeting point.
 /// - Two circles through a common point `v` meet again at the mirror image of `v` in the
-///   line through their centres; the arcs meet there only if it lies on both. A point `w`
+///   line through their centres; the arcs meet there only if it lies on both (for circles
+///   tangent at `v`, see the code). A point `w`
 ///   of a circle lies on the arc from `s` to `e` (counter-clockwise) exactly when it is on
 ///   the right of the chord s→e, on the left for a clockwise arc.
 fn only_share_their_vertex(first: &Segment, second: &Segment, tol: f64) -> bool {
@@ -478,9 +481,18 @@ fn only_share_their_vertex(first: &Segment, second: &Segment, tol: f64) -> bool 
             let u = axis * (1.0 / len);
             let foot = x.center + u * u.dot(v - x.center);
             let w = foot * 2.0 - v;
-            // Circles (nearly) tangent at v meet nowhere else, but their arcs may run
-            // within the tolerance of each other for a while: the full test decides.
-            w.dist(v) > 8.0 * tol && (clearly_off(x, w) || clearly_off(y, w))
+            if w.dist(v) > 8.0 * tol {
+                return clearly_off(x, w) || clearly_off(y, w);
+            }
+            // Circles (nearly) tangent at v. If the second arc goes on the way the first
+            // arrives (a smooth joint) and neither turns more than a half circle, the first
+            // lies behind v and the second ahead of it, and w, next to v, is on one side
+            // only. Arcs turning back at v (a cusp) may run side by side: the full test.
+            let tangent = |arc: &super::Arc| {
+                let r = v - arc.center;
+                Point::new(-r.y, r.x) * arc.sweep.signum()
+            };
+            x.sweep.abs() <= PI && y.sweep.abs() <= PI && tangent(x).dot(tangent(y)) > 0.0
         }
     }
 }
@@ -768,7 +780,6 @@ mod tests {
             let v = Point::new(10.0 * r() - 5.0, 10.0 * r() - 5.0);
             let mut point = || Point::new(10.0 * r() - 5.0, 10.0 * r() - 5.0);
             let (p, q) = (point(), point());
-            let mut sweep = || (r() * 6.0 + 0.05) * if r() < 0.5 { -1.0 } else { 1.0 };
             // An arc through `v` about `c`, ending at `v` (or starting there).
             let arc_to = |c: Point, sw: f64| {
                 let d = v - c;
@@ -779,11 +790,18 @@ mod tests {
                 let d = v - c;
                 Segment::Arc(Arc::from_center(c, d.norm(), d.y.atan2(d.x), sw))
             };
-            let (s1, s2) = match k % 4 {
+            // For arcs tangent at `v`: the second centre on the line through the first
+            // centre and `v`, on either side of `v` (circles touching inside or outside).
+            let n = (v - p) * (1.0 / (v - p).norm());
+            let side = if r() < 0.5 { -1.0 } else { 1.0 };
+            let tangent_centre = v + n * ((0.2 + 8.0 * r()) * side);
+            let mut sweep = || (r() * 6.0 + 0.05) * if r() < 0.5 { -1.0 } else { 1.0 };
+            let (s1, s2) = match k % 5 {
                 0 => (Segment::line(p, v), Segment::line(v, q)),
                 1 => (Segment::line(p, v), arc_from(q, sweep())),
                 2 => (arc_to(p, sweep()), Segment::line(v, q)),
-                _ => (arc_to(p, sweep()), arc_from(q, sweep())),
+                3 => (arc_to(p, sweep()), arc_from(q, sweep())),
+                _ => (arc_to(p, sweep()), arc_from(tangent_centre, sweep())),
             };
             // The arcs' stored end points come from sin/cos: join them exactly at `v`.
             let s1 = match s1 {
