@@ -4,7 +4,7 @@
 # Usage: scripts/bench.sh [N]        (N drawings, default 2000, about 77 MB)
 #
 # Builds release, generates N synthetic drawings into bench-out/dxf (kept and reused while N,
-# the seed and the generator are unchanged), then times three runs over them, best of 3 by
+# the seed and the generator are unchanged), then times five runs of each, best of 5 by
 # wall clock:
 #   floor    examples/parse_floor.rs: read, split code/value pairs, parse codes and floats;
 #   dxf      examples/dxf_load.rs: load every file with the dxf crate;
@@ -22,7 +22,7 @@ N="${1:-2000}"
 SEED="${SEED:-1}"
 OUT=bench-out
 DXF_DIR="$OUT/dxf"
-RUNS=3
+RUNS=5
 
 if ! [[ "$N" =~ ^[0-9]+$ ]] || [[ "$N" -eq 0 ]]; then
     echo "usage: scripts/bench.sh [N]   (N a positive number of drawings)" >&2
