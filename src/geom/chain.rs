@@ -382,12 +382,67 @@ const NONE: u32 = u32::MAX;
 
 /// Grid of merged endpoint nodes.
 struct Nodes {
-    cell: f64,
+    /// 1 / cell size (a multiplication is cheaper than a division).
+    inv_cell: f64,
+    /// join_gap / cell size: how near a cell's border a point must be to look next door.
+    margin: f64,
     join_gap: f64,
     /// First node in each cell; further nodes of the cell follow through `next`.
-    grid: FastMap<(i64, i64), u32>,
+    grid: CellTable,
     next: Vec<u32>,
     pos: Vec<Point>,
+}
+
+/// Grid cells to the first node in each: a hash table by open addressing with linear
+/// probing (common practice), its size a power of two at least twice the number of cells it
+/// may hold, so that probes stay short. Leaner than a general map for the lookups every
+/// loose segment's two ends make (about a tenth of the chaining time on loose sheets).
+struct CellTable {
+    keys: Vec<(i64, i64)>,
+    /// NONE marks an empty slot.
+    heads: Vec<u32>,
+    mask: usize,
+}
+
+impl CellTable {
+    /// A table for at most `cells` cells.
+    fn with_room(cells: usize) -> CellTable {
+        let size = (2 * cells).next_power_of_two().max(16);
+        CellTable {
+            keys: vec![(0, 0); size],
+            heads: vec![NONE; size],
+            mask: size - 1,
+        }
+    }
+
+    /// The slot where the search for `k` starts: the high bits of a multiplicative hash.
+    fn start(&self, k: (i64, i64)) -> usize {
+        let h = (k.0 as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15)
+            ^ (k.1 as u64).wrapping_mul(0xc2b2_ae3d_27d4_eb4f);
+        (h >> 32) as usize & self.mask
+    }
+
+    /// The first node of cell `k`, or NONE.
+    fn get(&self, k: (i64, i64)) -> u32 {
+        let mut i = self.start(k);
+        loop {
+            let head = self.heads[i];
+            if head == NONE || self.keys[i] == k {
+                return head;
+            }
+            i = (i + 1) & self.mask;
+        }
+    }
+
+    /// The slot holding cell `k`'s first node, claimed for `k` (holding NONE) if new.
+    fn head_mut(&mut self, k: (i64, i64)) -> &mut u32 {
+        let mut i = self.start(k);
+        while self.heads[i] != NONE && self.keys[i] != k {
+            i = (i + 1) & self.mask;
+        }
+        self.keys[i] = k;
+        &mut self.heads[i]
+    }
 }
 
 impl Nodes {
@@ -403,9 +458,9 @@ impl Nodes {
                 return self.pos.len() as u32 - 1;
             }
         }
-        let (fx, fy) = (p.x / self.cell, p.y / self.cell);
+        let (fx, fy) = (p.x * self.inv_cell, p.y * self.inv_cell);
         let (cx, cy) = (floor_i64(fx), floor_i64(fy));
-        let margin = self.join_gap / self.cell;
+        let margin = self.margin;
         let (rx, ry) = (fx - cx as f64, fy - cy as f64);
         let dxs: &[i64] = if rx < margin {
             &[0, -1]
@@ -424,7 +479,7 @@ impl Nodes {
         let mut best: Option<(f64, u32)> = None;
         for &dx in dxs {
             for &dy in dys {
-                let mut id = self.grid.get(&(cx + dx, cy + dy)).copied().unwrap_or(NONE);
+                let mut id = self.grid.get((cx + dx, cy + dy));
                 while id != NONE {
                     let d = self.pos[id as usize].dist(p);
                     if d <= self.join_gap && best.is_none_or(|(bd, _)| d < bd) {
@@ -439,7 +494,7 @@ impl Nodes {
         }
         let id = self.pos.len() as u32;
         self.pos.push(p);
-        let head = self.grid.entry((cx, cy)).or_insert(NONE);
+        let head = self.grid.head_mut((cx, cy));
         self.next.push(*head);
         *head = id;
         id
@@ -451,10 +506,12 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
         return;
     }
     let runs = &runs[..];
+    let cell = (16.0 * join_gap).max(f64::MIN_POSITIVE);
     let mut nodes = Nodes {
-        cell: (16.0 * join_gap).max(f64::MIN_POSITIVE),
+        inv_cell: 1.0 / cell,
+        margin: join_gap / cell,
         join_gap,
-        grid: FastMap::with_capacity_and_hasher(runs.len() * 2, FastBuild::default()),
+        grid: CellTable::with_room(runs.len() * 2),
         next: Vec::with_capacity(runs.len() * 2),
         pos: Vec::with_capacity(runs.len() * 2),
     };
