@@ -165,8 +165,8 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
     // fingerprint (segment count and box) finds candidates; the sorted segment keys confirm
     // them, so a fingerprint collision never drops a loop.
     // First run stored under each fingerprint; further runs with it follow through `next_same`.
-    let mut seen: FastMap<(usize, u64, bool), u32> =
-        FastMap::with_capacity_and_hasher(pieces.len(), FastBuild::default());
+    // (Grown as needed: single loose segments, most pieces of a sheet, never enter it.)
+    let mut seen: FastMap<(usize, u64, bool), u32> = FastMap::default();
     let mut next_same: Vec<u32> = Vec::with_capacity(pieces.len());
     let mut meta: Vec<Meta> = Vec::with_capacity(pieces.len());
     let mut store: Vec<(Vec<Segment>, bool, usize)> = Vec::with_capacity(pieces.len());
