@@ -476,14 +476,17 @@ impl Nodes {
         } else {
             &[0]
         };
+        // Squared distances: the same order, and no square root to wait for.
+        let gap2 = self.join_gap * self.join_gap;
         let mut best: Option<(f64, u32)> = None;
         for &dx in dxs {
             for &dy in dys {
                 let mut id = self.grid.get((cx + dx, cy + dy));
                 while id != NONE {
-                    let d = self.pos[id as usize].dist(p);
-                    if d <= self.join_gap && best.is_none_or(|(bd, _)| d < bd) {
-                        best = Some((d, id));
+                    let v = self.pos[id as usize] - p;
+                    let d2 = v.dot(v);
+                    if d2 <= gap2 && best.is_none_or(|(bd2, _)| d2 < bd2) {
+                        best = Some((d2, id));
                     }
                     id = self.next[id as usize];
                 }
