@@ -244,7 +244,7 @@ mod tests {
             if bits & (1 << 40) != 0 {
                 v = -v;
             }
-            if !(v.abs() * 10f64.powi(decimals as i32) < 4e15) {
+            if v.abs() * 10f64.powi(decimals as i32) >= 4e15 {
                 continue;
             }
             let mut ours = String::new();
