@@ -288,16 +288,38 @@ impl Arc {
         }
     }
 
+    /// The exact box: the ends, and each of the circle's four extreme points that lies on
+    /// the arc ([`Arc::holds_circle_point`], its chord-side test written out once for all
+    /// four: with k = chord × (centre − start), the point centre + d is on the arc when
+    /// sign(sweep)·(k + chord × d) ≤ 0).
     pub fn bbox(&self) -> BBox {
         let mut b = BBox::EMPTY;
         b.add_point(self.start);
         b.add_point(self.end);
-        let r = self.radius;
-        for d in [(r, 0.0), (0.0, r), (-r, 0.0), (0.0, -r)] {
-            let w = self.center + Point::new(d.0, d.1);
-            if self.holds_circle_point(w) {
-                b.add_point(w);
+        let (c, r) = (self.center, self.radius);
+        let chord = self.end - self.start;
+        if self.is_full_circle() || chord.dot(chord) < 1e-12 * r * r {
+            for d in [(r, 0.0), (0.0, r), (-r, 0.0), (0.0, -r)] {
+                let w = c + Point::new(d.0, d.1);
+                if self.holds_circle_point(w) {
+                    b.add_point(w);
+                }
             }
+            return b;
+        }
+        let s = self.sweep.signum();
+        let k = chord.cross(c - self.start);
+        if s * (k - chord.y * r) <= 0.0 {
+            b.max.x = b.max.x.max(c.x + r); // d = (r, 0)
+        }
+        if s * (k + chord.x * r) <= 0.0 {
+            b.max.y = b.max.y.max(c.y + r); // d = (0, r)
+        }
+        if s * (k + chord.y * r) <= 0.0 {
+            b.min.x = b.min.x.min(c.x - r); // d = (−r, 0)
+        }
+        if s * (k - chord.x * r) <= 0.0 {
+            b.min.y = b.min.y.min(c.y - r); // d = (0, −r)
         }
         b
     }
