@@ -183,76 +183,218 @@ fn arc_arc(x: &Arc, y: &Arc, tol: f64) -> Vec<Hit> {
     hits
 }
 
-/// Winding number of a closed run of segments around `p` (counter-clockwise positive).
+/// Winding number of a closed run of segments around `p` (counter-clockwise positive); `p`
+/// must not lie on the run.
 ///
-/// Counts signed crossings of the ray from `p` towards +x, with the half-open rule on
-/// y-monotone pieces (arcs are split at their top and bottom points), so that a vertex on the
-/// ray is counted once (common practice for crossing-number tests).
+/// Counts signed crossings of the ray from `p` towards +x, with the half-open rule, so that a
+/// vertex on the ray is counted once (common practice for crossing-number tests). An arc
+/// counts as its chord plus the circular segment between them: the loop "arc, then chord
+/// back" winds once (the sweep's sign) around the points inside that segment and not at all
+/// around the others, so an arc adds its chord's crossings, and ±1 when `p` is inside its
+/// circular segment (inside the circle, on the arc's side of the chord). No angles; only
+/// when `p` is on an arc's circle or chord line is the arc itself followed
+/// ([`arc_ray_crossings`]).
 pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
     let mut w = 0;
-    let cross_line = |a: Point, b: Point| -> i32 {
-        if (a.y <= p.y) != (b.y <= p.y) {
-            let t = (p.y - a.y) / (b.y - a.y);
-            let x = a.x + t * (b.x - a.x);
-            if x > p.x {
-                return if b.y > a.y { 1 } else { -1 };
-            }
-        }
-        0
-    };
     for s in segments {
         match s {
-            Segment::Line { a, b } => w += cross_line(*a, *b),
+            Segment::Line { a, b } => w += line_ray_crossings(*a, *b, p),
             Segment::Arc(arc) => {
-                // Only an arc that spans the ray's height and reaches right of `p` can cross.
-                let r = arc.radius;
-                if p.y < arc.center.y - r || p.y > arc.center.y + r || p.x > arc.center.x + r {
+                let d = p - arc.center;
+                let (d2, r2) = (d.dot(d), arc.radius * arc.radius);
+                let turn = arc.sweep.signum() as i32;
+                // Within rounding of the circle or of the chord's line the two ways of
+                // counting could decide differently: there the arc itself is followed.
+                let near = 1e-12 * (d2 + r2);
+                if d2 > r2 + near {
+                    // Outside the circle the arc crosses the ray as its chord does.
+                    w += line_ray_crossings(arc.start, arc.end, p);
                     continue;
                 }
-                // Split at the angles π/2 and 3π/2 inside the sweep; each piece is y-monotone.
-                let mut cuts = [0.0f64; 6];
-                let mut n_cuts = 1;
-                let sweep = arc.sweep;
-                let start_angle = arc.start_angle();
-                for k in [PI / 2.0, 3.0 * PI / 2.0] {
-                    let mut rel = wrap_tau((k - start_angle) * sweep.signum());
-                    while rel < sweep.abs() && n_cuts < 5 {
-                        if rel > 0.0 {
-                            cuts[n_cuts] = rel / sweep.abs();
-                            n_cuts += 1;
-                        }
-                        rel += TAU;
+                if d2 < r2 - near {
+                    if arc.is_full_circle() {
+                        w += turn;
+                        continue;
+                    }
+                    // A counter-clockwise arc lies on the right of its chord.
+                    let chord = arc.end - arc.start;
+                    let side = arc.sweep.signum() * chord.cross(p - arc.start);
+                    let scale = p.x.abs() + p.y.abs() + arc.radius;
+                    if side.abs() > 1e-12 * chord.norm() * scale {
+                        w += line_ray_crossings(arc.start, arc.end, p)
+                            + if side < 0.0 { turn } else { 0 };
+                        continue;
                     }
                 }
-                cuts[n_cuts] = 1.0;
-                n_cuts += 1;
-                let cuts = &mut cuts[..n_cuts];
-                cuts.sort_by(f64::total_cmp);
-                for win in cuts.windows(2) {
-                    let (ta, tb) = (win[0], win[1]);
-                    let a = if ta == 0.0 {
-                        arc.start
-                    } else {
-                        arc.point_at(ta)
-                    };
-                    let b = if tb == 1.0 { arc.end } else { arc.point_at(tb) };
-                    if (a.y <= p.y) != (b.y <= p.y) {
-                        // The crossing point on the circle, on this monotone piece.
-                        let dy = p.y - arc.center.y;
-                        let dx = (r * r - dy * dy).max(0.0).sqrt();
-                        let mid = arc.point_at((ta + tb) / 2.0);
-                        let x = if mid.x >= arc.center.x {
-                            arc.center.x + dx
-                        } else {
-                            arc.center.x - dx
-                        };
-                        if x > p.x {
-                            w += if b.y > a.y { 1 } else { -1 };
-                        }
-                    }
-                }
+                w += arc_ray_crossings(arc, p);
             }
         }
     }
     w
+}
+
+/// Signed crossings of the ray from `p` towards +x by the line a → b (half-open rule).
+fn line_ray_crossings(a: Point, b: Point, p: Point) -> i32 {
+    if (a.y <= p.y) != (b.y <= p.y) {
+        let t = (p.y - a.y) / (b.y - a.y);
+        let x = a.x + t * (b.x - a.x);
+        if x > p.x {
+            return if b.y > a.y { 1 } else { -1 };
+        }
+    }
+    0
+}
+
+/// Signed crossings of the ray from `p` towards +x by the arc itself: the arc is split at its
+/// top and bottom points into y-monotone pieces, each counted with the half-open rule.
+fn arc_ray_crossings(arc: &Arc, p: Point) -> i32 {
+    let r = arc.radius;
+    // Only an arc that spans the ray's height and reaches right of `p` can cross.
+    if p.y < arc.center.y - r || p.y > arc.center.y + r || p.x > arc.center.x + r {
+        return 0;
+    }
+    let mut w = 0;
+    // Split at the angles π/2 and 3π/2 inside the sweep; each piece is y-monotone.
+    let mut cuts = [0.0f64; 6];
+    let mut n_cuts = 1;
+    let sweep = arc.sweep;
+    let start_angle = arc.start_angle();
+    for k in [PI / 2.0, 3.0 * PI / 2.0] {
+        let mut rel = wrap_tau((k - start_angle) * sweep.signum());
+        while rel < sweep.abs() && n_cuts < 5 {
+            if rel > 0.0 {
+                cuts[n_cuts] = rel / sweep.abs();
+                n_cuts += 1;
+            }
+            rel += TAU;
+        }
+    }
+    cuts[n_cuts] = 1.0;
+    n_cuts += 1;
+    let cuts = &mut cuts[..n_cuts];
+    cuts.sort_by(f64::total_cmp);
+    for win in cuts.windows(2) {
+        let (ta, tb) = (win[0], win[1]);
+        let a = if ta == 0.0 {
+            arc.start
+        } else {
+            arc.point_at(ta)
+        };
+        let b = if tb == 1.0 { arc.end } else { arc.point_at(tb) };
+        if (a.y <= p.y) != (b.y <= p.y) {
+            // The crossing point on the circle, on this monotone piece.
+            let dy = p.y - arc.center.y;
+            let dx = (r * r - dy * dy).max(0.0).sqrt();
+            let mid = arc.point_at((ta + tb) / 2.0);
+            let x = if mid.x >= arc.center.x {
+                arc.center.x + dx
+            } else {
+                arc.center.x - dx
+            };
+            if x > p.x {
+                w += if b.y > a.y { 1 } else { -1 };
+            }
+        }
+    }
+    w
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
+    fn uniform(seed: u64) -> impl FnMut() -> f64 {
+        let mut s = seed;
+        move || {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        }
+    }
+
+    /// The winding number following every arc itself (the reference).
+    fn winding_by_arcs(segments: &[Segment], p: Point) -> i32 {
+        segments
+            .iter()
+            .map(|s| match s {
+                Segment::Line { a, b } => line_ray_crossings(*a, *b, p),
+                Segment::Arc(arc) => arc_ray_crossings(arc, p),
+            })
+            .sum()
+    }
+
+    /// Counting arcs by their chords and circular segments gives the winding number that
+    /// following the arcs gives: random loops (crossing themselves or not, bulges of either
+    /// sign up to nearly full circles, full circles) and points anywhere, inside the arcs'
+    /// circles, and on their chords.
+    #[test]
+    fn chords_and_segments_count_as_the_arcs_do() {
+        let mut r = uniform(31);
+        let mut nonzero = 0;
+        for case in 0..3000 {
+            let n = 2 + (r() * 10.0) as usize;
+            let pts: Vec<Point> = (0..n).map(|_| Point::new(10.0 * r(), 10.0 * r())).collect();
+            let segments: Vec<Segment> = if case % 10 == 0 {
+                let c = Point::new(10.0 * r(), 10.0 * r());
+                let sweep = if r() < 0.5 { TAU } else { -TAU };
+                vec![Segment::Arc(Arc::from_center(
+                    c,
+                    0.5 + 4.0 * r(),
+                    0.0,
+                    sweep,
+                ))]
+            } else {
+                (0..n)
+                    .map(|k| {
+                        let (a, b) = (pts[k], pts[(k + 1) % n]);
+                        let bulge = if r() < 0.3 { 0.0 } else { 6.0 * r() - 3.0 };
+                        match Arc::from_bulge(a, b, bulge) {
+                            Some(arc) => Segment::Arc(arc),
+                            None => Segment::line(a, b),
+                        }
+                    })
+                    .collect()
+            };
+            for _ in 0..20 {
+                let p = match (r() * 3.0) as usize {
+                    0 => Point::new(14.0 * r() - 2.0, 14.0 * r() - 2.0),
+                    // Inside an arc's circle.
+                    1 => match &segments[(r() * segments.len() as f64) as usize] {
+                        Segment::Arc(arc) => {
+                            arc.center + Point::polar(TAU * r()) * (arc.radius * r())
+                        }
+                        Segment::Line { a, .. } => *a + Point::new(0.3, 0.1),
+                    },
+                    // On an arc's chord.
+                    _ => {
+                        let s = &segments[(r() * segments.len() as f64) as usize];
+                        let t = r();
+                        s.start() + (s.end() - s.start()) * t
+                    }
+                };
+                let on_curve = segments.iter().any(|s| match s {
+                    Segment::Line { a, b } => {
+                        let d = *b - *a;
+                        (p - *a).cross(d).abs() <= 1e-9 * d.norm()
+                            && (p - *a).dot(d) >= 0.0
+                            && (p - *b).dot(d) <= 0.0
+                    }
+                    Segment::Arc(arc) => (p.dist(arc.center) - arc.radius).abs() <= 1e-9,
+                });
+                if on_curve {
+                    continue;
+                }
+                let w = winding_number(&segments, p);
+                assert_eq!(
+                    w,
+                    winding_by_arcs(&segments, p),
+                    "case {case} at {p:?}: {segments:?}"
+                );
+                nonzero += usize::from(w != 0);
+            }
+        }
+        assert!(nonzero > 5000, "{nonzero}");
+    }
 }
