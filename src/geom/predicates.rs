@@ -200,8 +200,14 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
         match s {
             Segment::Line { a, b } => w += line_ray_crossings(*a, *b, p),
             Segment::Arc(arc) => {
-                let d = p - arc.center;
-                let (d2, r2) = (d.dot(d), arc.radius * arc.radius);
+                // Neither the arc nor its chord (inside its circle) can reach the ray from
+                // a point above, below or right of the circle.
+                let (c, r) = (arc.center, arc.radius);
+                if p.y < c.y - r || p.y > c.y + r || p.x > c.x + r {
+                    continue;
+                }
+                let d = p - c;
+                let (d2, r2) = (d.dot(d), r * r);
                 let turn = arc.sweep.signum() as i32;
                 // Within rounding of the circle or of the chord's line the two ways of
                 // counting could decide differently: there the arc itself is followed.
