@@ -15,4 +15,6 @@ pub mod geom;
 pub mod import;
 pub mod report;
 pub mod section;
+#[cfg(test)]
+mod test_rng;
 pub use analyze::{analyze_drawing, measure_drawing, Outcome, Settings};

@@ -685,18 +685,8 @@ impl BoxGrid {
 mod tests {
     use super::*;
     use crate::geom::Arc;
+    use crate::test_rng::uniform;
     use std::f64::consts::TAU;
-
-    /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
-    fn uniform(seed: u64) -> impl FnMut() -> f64 {
-        let mut s = seed;
-        move || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            (s >> 11) as f64 / (1u64 << 53) as f64
-        }
-    }
 
     /// Pairs (i < j) whose boxes overlap within `tol`, by testing all of them.
     fn all_pairs(boxes: &[BBox], tol: f64) -> Vec<(u32, u32)> {

@@ -308,17 +308,7 @@ fn arc_ray_crossings(arc: &Arc, p: Point) -> i32 {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
-    fn uniform(seed: u64) -> impl FnMut() -> f64 {
-        let mut s = seed;
-        move || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            (s >> 11) as f64 / (1u64 << 53) as f64
-        }
-    }
+    use crate::test_rng::uniform;
 
     /// The winding number following every arc itself (the reference).
     fn winding_by_arcs(segments: &[Segment], p: Point) -> i32 {

@@ -426,17 +426,7 @@ impl Segment {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// xorshift64 (Marsaglia 2003) as uniform numbers in [0, 1): deterministic test data.
-    fn uniform(seed: u64) -> impl FnMut() -> f64 {
-        let mut s = seed;
-        move || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            (s >> 11) as f64 / (1u64 << 53) as f64
-        }
-    }
+    use crate::test_rng::uniform;
 
     fn random_arc(r: &mut impl FnMut() -> f64) -> Arc {
         let center = Point::new(200.0 * r() - 100.0, 200.0 * r() - 100.0);

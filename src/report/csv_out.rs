@@ -221,13 +221,7 @@ mod tests {
     /// every size the plain branch takes, including ties and values next to them.
     #[test]
     fn fixed_point_digits_match_the_standard_formatter() {
-        let mut s = 0x2545_f491_4f6c_dd1du64;
-        let mut next = move || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            s
-        };
+        let mut next = crate::test_rng::xorshift(0x2545_f491_4f6c_dd1d);
         let mut checked = 0;
         for k in 0..400_000 {
             let bits = next();

@@ -1090,6 +1090,7 @@ fn eq_flags(w: u64, b: u8) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::test_rng::xorshift;
 
     /// The parser on a text as a whole file (general paths only, as no word can be read past
     /// its end) and as a value line followed by more of a file (the short path where it
@@ -1319,17 +1320,6 @@ mod tests {
             "1.8014398509481986e3",
         ] {
             same_as_std(s);
-        }
-    }
-
-    /// xorshift64 (Marsaglia 2003) from a fixed seed: deterministic test data.
-    fn xorshift(seed: u64) -> impl FnMut() -> u64 {
-        let mut x = seed;
-        move || {
-            x ^= x << 13;
-            x ^= x >> 7;
-            x ^= x << 17;
-            x
         }
     }
 
