@@ -125,17 +125,33 @@ pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
 
 thread_local! {
     /// Each worker thread reads its files into one buffer that only grows, instead of
-    /// allocating (and touching fresh pages for) a new one per file.
+    /// allocating (and touching fresh pages for) a new one per file. All of it stays
+    /// initialised, so reads go straight into it.
     static READ_BUFFER: std::cell::RefCell<Vec<u8>> = const { std::cell::RefCell::new(Vec::new()) };
 }
 
 /// Run `f` on the bytes of the file at `path`, read into this thread's reusable buffer.
+///
+/// Reads until end of file without asking the file's size first (`read_to_end` would add a
+/// `statx` and an `lseek` per file): two `read` calls for a file that fits the buffer.
 fn with_file_bytes<R>(path: &Path, f: impl FnOnce(&[u8]) -> R) -> std::io::Result<R> {
     use std::io::Read;
     let mut buf = READ_BUFFER.with(|c| std::mem::take(&mut *c.borrow_mut()));
-    buf.clear();
-    let read = std::fs::File::open(path).and_then(|mut file| file.read_to_end(&mut buf));
-    let out = read.map(|_| f(&buf));
+    let read = std::fs::File::open(path).and_then(|mut file| {
+        let mut filled = 0;
+        loop {
+            if filled == buf.len() {
+                buf.resize((2 * buf.len()).max(256 * 1024), 0);
+            }
+            match file.read(&mut buf[filled..]) {
+                Ok(0) => return Ok(filled),
+                Ok(n) => filled += n,
+                Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+                Err(e) => return Err(e),
+            }
+        }
+    });
+    let out = read.map(|filled| f(&buf[..filled]));
     READ_BUFFER.with(|c| *c.borrow_mut() = buf);
     out
 }
