@@ -270,21 +270,33 @@ impl Arc {
         }
     }
 
-    /// A box that surely holds the arc, cheaply (no angles): an arc of at most a half turn
-    /// lies within the circle on its chord as diameter (Thales' theorem); a longer one within
-    /// its own circle.
+    /// A box that surely holds the arc, cheaply (no angles, no square root).
+    ///
+    /// An arc of at most a half turn stays within its sagitta h = (c/2)·tan(|sweep|/4) of its
+    /// chord (c the chord's length; every point of it projects onto the chord and lies at
+    /// most h from it), so within the chord's box grown by h. Since tan is convex,
+    /// tan(x) ≤ 4x/π on [0, π/4], and c ≤ |dx| + |dy|: h ≤ (|dx| + |dy|)·|sweep|/(2π). A
+    /// longer arc lies within its own circle.
     pub fn loose_bbox(&self) -> BBox {
-        let (c, r) = if self.sweep.abs() <= PI {
-            (
-                (self.start + self.end) * 0.5,
-                self.start.dist(self.end) * 0.5,
-            )
+        if self.sweep.abs() <= PI {
+            let d = self.end - self.start;
+            let h = (d.x.abs() + d.y.abs()) * self.sweep.abs() * (0.5 / PI);
+            BBox {
+                min: Point::new(
+                    self.start.x.min(self.end.x) - h,
+                    self.start.y.min(self.end.y) - h,
+                ),
+                max: Point::new(
+                    self.start.x.max(self.end.x) + h,
+                    self.start.y.max(self.end.y) + h,
+                ),
+            }
         } else {
-            (self.center, self.radius)
-        };
-        BBox {
-            min: Point::new(c.x - r, c.y - r),
-            max: Point::new(c.x + r, c.y + r),
+            let (c, r) = (self.center, self.radius);
+            BBox {
+                min: Point::new(c.x - r, c.y - r),
+                max: Point::new(c.x + r, c.y + r),
+            }
         }
     }
 
