@@ -30,9 +30,6 @@ impl Profile {
     pub fn bbox(&self) -> BBox {
         self.bbox
     }
-    pub fn loops(&self) -> impl Iterator<Item = &Loop> {
-        std::iter::once(&self.outer).chain(self.holes.iter())
-    }
 }
 
 /// Remove loops that cross themselves or each other, reporting each as a problem.

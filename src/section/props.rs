@@ -76,10 +76,9 @@ pub fn section_props(profiles: &[&Profile]) -> SectionProps {
     let (mut perimeter, mut perimeter_outer, mut n_holes) = (0.0, 0.0, 0);
     for p in profiles {
         m += p.moments.shifted(origin - p.bbox.center());
-        for l in p.loops() {
-            perimeter += length(&l.segments);
-        }
-        perimeter_outer += length(&p.outer.segments);
+        let outer = length(&p.outer.segments);
+        perimeter_outer += outer;
+        perimeter += outer + p.holes.iter().map(|h| length(&h.segments)).sum::<f64>();
         n_holes += p.holes.len();
     }
     let area = m.a;
