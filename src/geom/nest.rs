@@ -572,7 +572,17 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
     // Largest first: a container is always larger than what it holds.
     let mut order: Vec<usize> = (0..loops.len()).collect();
     order.sort_by(|&a, &b| info[b].0.total_cmp(&info[a].0));
-    let grid = BoxGrid::new(&info.iter().map(|(_, b)| *b).collect::<Vec<_>>());
+    // Candidate containers: through a grid of boxes when there are many loops; a sheet's few
+    // loops are simply all tried (their boxes are compared first anyway).
+    const GRID_FROM: usize = 32;
+    let grid = (loops.len() > GRID_FROM)
+        .then(|| BoxGrid::new(&info.iter().map(|(_, b)| *b).collect::<Vec<_>>()));
+    let every: Vec<u32> = if grid.is_none() {
+        (0..loops.len() as u32).collect()
+    } else {
+        Vec::new()
+    };
+    let candidates = |p: Point| grid.as_ref().map_or(&every[..], |g| g.candidates(p));
     let rank: Vec<usize> = {
         let mut r = vec![0; loops.len()];
         for (k, &i) in order.iter().enumerate() {
@@ -586,7 +596,7 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
         let probe = loops[i].segments[0].midpoint();
         let bb = info[i].1;
         let mut best: Option<usize> = None;
-        for &j in grid.candidates(probe) {
+        for &j in candidates(probe) {
             let j = j as usize;
             if j == i || rank[j] > rank[i] || !info[j].1.contains_box(&bb, 0.0) {
                 continue;
