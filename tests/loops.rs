@@ -323,3 +323,59 @@ fn a_loose_segment_drawn_twice_either_way_counts_once() {
         out[0].message
     );
 }
+
+#[test]
+fn side_by_side_rectangles_sharing_an_edge_are_two_profiles() {
+    // Two 10 × 10 squares sharing the edge x = 10; the second is drawn starting along that
+    // edge, either way round, so that the midpoint of its first edge lies on the first square.
+    for reversed in [false, true] {
+        let left = closed(rect(0.0, 0.0, 10.0, 10.0));
+        let mut right = vec![
+            Segment::line(p(10.0, 10.0), p(10.0, 0.0)),
+            Segment::line(p(10.0, 0.0), p(20.0, 0.0)),
+            Segment::line(p(20.0, 0.0), p(20.0, 10.0)),
+            Segment::line(p(20.0, 10.0), p(10.0, 10.0)),
+        ];
+        if reversed {
+            right.reverse();
+            right = right.iter().map(Segment::reversed).collect();
+        }
+        let out = measure(vec![left, closed(right)]);
+        assert_eq!(out.len(), 2, "reversed {reversed}: {out:#?}");
+        for o in &out {
+            let s = o.result.as_ref().expect("ok row");
+            // Area of a 10 × 10 square.
+            assert_close!(s.area, 100.0, rel = 1e-13);
+            assert_eq!(s.n_holes, 0);
+        }
+    }
+}
+
+#[test]
+fn a_square_filling_the_notch_of_an_l_is_a_profile_of_its_own() {
+    // An L (20 × 20 less its top-right 10 × 10 quarter) and a square filling that quarter:
+    // the square's box lies inside the L's box and every edge midpoint of the square's two
+    // shared edges lies on the L, whichever edge the square is drawn from.
+    let l = closed(vec![
+        Segment::line(p(0.0, 0.0), p(20.0, 0.0)),
+        Segment::line(p(20.0, 0.0), p(20.0, 10.0)),
+        Segment::line(p(20.0, 10.0), p(10.0, 10.0)),
+        Segment::line(p(10.0, 10.0), p(10.0, 20.0)),
+        Segment::line(p(10.0, 20.0), p(0.0, 20.0)),
+        Segment::line(p(0.0, 20.0), p(0.0, 0.0)),
+    ]);
+    for start in 0..4 {
+        let mut sq = rect(10.0, 10.0, 10.0, 10.0);
+        sq.rotate_left(start);
+        let out = measure(vec![l.clone(), closed(sq)]);
+        assert_eq!(out.len(), 2, "start {start}: {out:#?}");
+        let mut areas: Vec<f64> = out
+            .iter()
+            .map(|o| o.result.as_ref().expect("ok row").area)
+            .collect();
+        areas.sort_by(f64::total_cmp);
+        // Areas: the square 10·10, the L 20·20 − 10·10.
+        assert_close!(areas[0], 100.0, rel = 1e-13);
+        assert_close!(areas[1], 300.0, rel = 1e-13);
+    }
+}

@@ -556,15 +556,13 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
         moments.push(m);
         keep.push(l);
     }
-    let mut loops = keep;
-    // Make every loop counter-clockwise for now; holes are turned round below.
-    for ((l, (area, _)), m) in loops
-        .iter_mut()
-        .zip(info.iter_mut())
-        .zip(moments.iter_mut())
-    {
+    let loops = keep;
+    // Integrals as if every loop ran counter-clockwise; the loops themselves are turned
+    // round only once their role is known (outer loops counter-clockwise, holes clockwise).
+    let mut drawn_ccw: Vec<bool> = Vec::with_capacity(loops.len());
+    for ((area, _), m) in info.iter_mut().zip(moments.iter_mut()) {
+        drawn_ccw.push(*area > 0.0);
         if *area < 0.0 {
-            l.reverse();
             *area = -*area;
             *m = *m * -1.0;
         }
@@ -593,7 +591,14 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
     for &i in &order {
-        let probe = loops[i].segments[0].midpoint();
+        // A point of the loop: the midpoint of its first segment when run counter-clockwise.
+        let segs = &loops[i].segments;
+        let probe = if drawn_ccw[i] {
+            &segs[0]
+        } else {
+            &segs[segs.len() - 1]
+        }
+        .midpoint();
         let bb = info[i].1;
         let mut best: Option<usize> = None;
         for &j in candidates(probe) {
@@ -620,7 +625,10 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
     for &i in &order {
         if depth[i] % 2 == 0 {
             // `slots[i]` is taken exactly once, here or as a hole below.
-            if let Some(outer) = slots[i].take() {
+            if let Some(mut outer) = slots[i].take() {
+                if !drawn_ccw[i] {
+                    outer.reverse();
+                }
                 profile_of.insert(i, profiles.len());
                 let bbox = info[i].1;
                 profiles.push(Profile {
@@ -635,7 +643,9 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
     for &i in &order {
         if depth[i] % 2 == 1 {
             if let (Some(p), Some(mut hole)) = (parent[i], slots[i].take()) {
-                hole.reverse();
+                if drawn_ccw[i] {
+                    hole.reverse();
+                }
                 if let Some(&k) = profile_of.get(&p) {
                     // The hole's integrals, turned clockwise and moved to the profile's origin.
                     let d = profiles[k].bbox.center() - info[i].1.center();
