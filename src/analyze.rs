@@ -115,7 +115,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let profiles = nest(loops, &mut problems);
+    let profiles = nest(loops, join_gap, &mut problems);
 
     if !skipped.is_empty() {
         notes.push(format!("skipped {skipped}"));

@@ -379,3 +379,20 @@ fn a_square_filling_the_notch_of_an_l_is_a_profile_of_its_own() {
         assert_close!(areas[1], 300.0, rel = 1e-13);
     }
 }
+
+#[test]
+fn a_cut_out_sharing_an_edge_with_the_outline_is_a_hole() {
+    // A 100 × 50 plate and a 20 × 10 rectangle inside it against its right edge (x = 100),
+    // drawn from each of its corners in turn: whichever edge comes first (the shared one
+    // too), the rectangle is a hole, not a second profile lying over the first.
+    for start in 0..4 {
+        let mut cut = rect(80.0, 20.0, 20.0, 10.0);
+        cut.rotate_left(start);
+        let out = measure(vec![closed(rect(0.0, 0.0, 100.0, 50.0)), closed(cut)]);
+        assert_eq!(out.len(), 1, "start {start}: {out:#?}");
+        let s = out[0].result.as_ref().expect("ok row");
+        assert_eq!(s.n_holes, 1);
+        // Area: 100·50 − 20·10.
+        assert_close!(s.area, 4800.0, rel = 1e-13);
+    }
+}

@@ -12,7 +12,7 @@ use std::f64::consts::PI;
 
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
-use super::predicates::{intersections, winding_number};
+use super::predicates::{intersections, winding_number, winding_number_clear_of};
 use super::segment::{BBox, Point, Segment};
 
 /// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
@@ -532,9 +532,17 @@ fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> 
     side(before) * side(after) > 0.0
 }
 
-/// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]).
+/// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]),
+/// but may touch; `tol` is the distance within which a point counts as on a loop.
 /// Loops with no area become problems.
-pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profile> {
+///
+/// Whether a loop lies inside another is decided at a point of the loop that is clear of the
+/// other (loops that touch along an edge share points, where inside and outside is a matter
+/// of rounding): the midpoints of up to eight of its segments, spread along it, are tried in
+/// turn.
+pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> Vec<Profile> {
+    /// Points of a loop tried, at most, to find one clear of a candidate container.
+    const PROBES: usize = 8;
     // Area integrals about each loop's own box centre, for precision far from the origin;
     // their signed area gives the direction, and the profiles reuse them.
     let mut info: Vec<(f64, BBox)> = Vec::with_capacity(loops.len());
@@ -591,17 +599,23 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
     for &i in &order {
-        // A point of the loop: the midpoint of its first segment when run counter-clockwise.
+        // Points of the loop: midpoints of segments spread along it, the first one first when
+        // run counter-clockwise.
         let segs = &loops[i].segments;
-        let probe = if drawn_ccw[i] {
-            &segs[0]
-        } else {
-            &segs[segs.len() - 1]
-        }
-        .midpoint();
+        let n = segs.len();
+        let probe = |k: usize| {
+            let at = k * n / PROBES.min(n);
+            if drawn_ccw[i] {
+                &segs[at]
+            } else {
+                &segs[n - 1 - at]
+            }
+            .midpoint()
+        };
+        let first_probe = probe(0);
         let bb = info[i].1;
         let mut best: Option<usize> = None;
-        for &j in candidates(probe) {
+        for &j in candidates(first_probe) {
             let j = j as usize;
             if j == i || rank[j] > rank[i] || !info[j].1.contains_box(&bb, 0.0) {
                 continue;
@@ -609,7 +623,14 @@ pub fn nest(mut loops: Vec<Loop>, problems: &mut Vec<LoopProblem>) -> Vec<Profil
             if best.is_some_and(|b| rank[b] > rank[j]) {
                 continue; // already found a smaller container
             }
-            if winding_number(&loops[j].segments, probe) != 0 {
+            let container = &loops[j].segments;
+            let w = (0..PROBES.min(n))
+                .find_map(|k| {
+                    let q = if k == 0 { first_probe } else { probe(k) };
+                    winding_number_clear_of(container, q, tol)
+                })
+                .unwrap_or_else(|| winding_number(container, first_probe));
+            if w != 0 {
                 best = Some(j);
             }
         }

@@ -195,19 +195,57 @@ fn arc_arc(x: &Arc, y: &Arc, tol: f64) -> Vec<Hit> {
 /// when `p` is on an arc's circle or chord line is the arc itself followed
 /// ([`arc_ray_crossings`]).
 pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
+    winding(segments, p, None).unwrap_or(0)
+}
+
+/// [`winding_number`] when `p` is farther than `clearance` from every segment; `None` when it
+/// is that near the run, where which side it lies on is a matter of rounding.
+pub fn winding_number_clear_of(segments: &[Segment], p: Point, clearance: f64) -> Option<i32> {
+    winding(segments, p, Some(clearance))
+}
+
+/// The winding number, in the same pass checking (with `Some(clearance)`) that `p` is
+/// farther than that from every segment (`None` if not). Each segment is looked at closely
+/// only when `p` is within its reach: its box for the distance, its height for the ray.
+fn winding(segments: &[Segment], p: Point, clearance: Option<f64>) -> Option<i32> {
+    let cl = clearance.unwrap_or(-1.0);
+    let check = clearance.is_some();
     let mut w = 0;
     for s in segments {
         match s {
-            Segment::Line { a, b } => w += line_ray_crossings(*a, *b, p),
+            Segment::Line { a, b } => {
+                if check
+                    && p.x >= a.x.min(b.x) - cl
+                    && p.x <= a.x.max(b.x) + cl
+                    && p.y >= a.y.min(b.y) - cl
+                    && p.y <= a.y.max(b.y) + cl
+                    && distance_to(s, p) <= cl
+                {
+                    return None;
+                }
+                w += line_ray_crossings(*a, *b, p);
+            }
             Segment::Arc(arc) => {
-                // Neither the arc nor its chord (inside its circle) can reach the ray from
-                // a point above, below or right of the circle.
                 let (c, r) = (arc.center, arc.radius);
-                if p.y < c.y - r || p.y > c.y + r || p.x > c.x + r {
+                let reach = r + cl.max(0.0);
+                // Far from the circle: neither near the arc nor able to cross the ray.
+                if p.y < c.y - reach || p.y > c.y + reach || p.x > c.x + reach {
                     continue;
                 }
                 let d = p - c;
                 let (d2, r2) = (d.dot(d), r * r);
+                if check
+                    && d2 <= reach * reach
+                    && d2 >= (r - cl).max(0.0).powi(2)
+                    && distance_to(s, p) <= cl
+                {
+                    return None;
+                }
+                // Neither the arc nor its chord (inside its circle) can reach the ray from
+                // a point above, below or right of the circle.
+                if p.y < c.y - r || p.y > c.y + r || p.x > c.x + r {
+                    continue;
+                }
                 let turn = arc.sweep.signum() as i32;
                 // Within rounding of the circle or of the chord's line the two ways of
                 // counting could decide differently: there the arc itself is followed.
@@ -236,7 +274,34 @@ pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
             }
         }
     }
-    w
+    Some(w)
+}
+
+/// Distance from `p` to the segment.
+pub fn distance_to(s: &Segment, p: Point) -> f64 {
+    match s {
+        Segment::Line { a, b } => {
+            let d = *b - *a;
+            let len2 = d.dot(d);
+            let t = if len2 > 0.0 {
+                ((p - *a).dot(d) / len2).clamp(0.0, 1.0)
+            } else {
+                0.0
+            };
+            p.dist(*a + d * t)
+        }
+        Segment::Arc(arc) => {
+            // The nearest point of the circle if it lies on the arc, else the nearer end.
+            let v = p - arc.center;
+            let len = v.norm();
+            let ends = p.dist(arc.start).min(p.dist(arc.end));
+            if len > 0.0 && arc.holds_circle_point(arc.center + v * (arc.radius / len)) {
+                (len - arc.radius).abs().min(ends)
+            } else {
+                ends
+            }
+        }
+    }
 }
 
 /// Signed crossings of the ray from `p` towards +x by the line a → b (half-open rule).
@@ -382,7 +447,18 @@ mod tests {
                 if on_curve {
                     continue;
                 }
+                // With a clearance: `None` exactly when the point is that near the run.
+                let cl = 0.05;
+                let nearest = segments
+                    .iter()
+                    .map(|s| distance_to(s, p))
+                    .fold(f64::INFINITY, f64::min);
+                let clear = winding_number_clear_of(&segments, p, cl);
+                assert_eq!(clear.is_none(), nearest <= cl, "case {case} at {p:?}");
                 let w = winding_number(&segments, p);
+                if let Some(wc) = clear {
+                    assert_eq!(wc, w);
+                }
                 assert_eq!(
                     w,
                     winding_by_arcs(&segments, p),
@@ -392,5 +468,21 @@ mod tests {
             }
         }
         assert!(nonzero > 5000, "{nonzero}");
+    }
+
+    #[test]
+    fn distances_to_lines_and_arcs() {
+        let line = Segment::line(Point::new(0.0, 0.0), Point::new(10.0, 0.0));
+        assert_eq!(distance_to(&line, Point::new(5.0, 3.0)), 3.0);
+        // Past the end: to the end point, a 3-4-5 triangle.
+        assert_eq!(distance_to(&line, Point::new(-4.0, 3.0)), 5.0);
+        // A quarter circle of radius 10 from (10, 0) to (0, 10), counter-clockwise.
+        let arc = Segment::Arc(Arc::from_center(Point::new(0.0, 0.0), 10.0, 0.0, PI / 2.0));
+        let d = |x: f64, y: f64| distance_to(&arc, Point::new(x, y));
+        assert!((d(6.0, 8.0) - 0.0).abs() < 1e-12); // on the arc (6-8-10)
+        assert!((d(3.0, 4.0) - 5.0).abs() < 1e-12); // inside, towards the arc
+        assert!((d(12.0, 16.0) - 10.0).abs() < 1e-12); // outside, radially
+                                                       // Beside the arc's sweep: to the nearer end, (10, 0) from (10, -5).
+        assert!((d(10.0, -5.0) - 5.0).abs() < 1e-12);
     }
 }
