@@ -5,8 +5,8 @@
 
 use std::time::{Duration, Instant};
 
-use sectio::analyze::default_join_gap;
-use sectio::geom::{chain, drop_crossing_loops, nest, BBox};
+use sectio::analyze::{default_join_gap, drawing_scale};
+use sectio::geom::{chain, drop_crossing_loops, nest};
 use sectio::import::{dxf, ReadOptions};
 use sectio::section::section_props;
 
@@ -45,13 +45,8 @@ fn main() {
             continue;
         };
         let t2 = Instant::now();
-        let extent = d
-            .pieces
-            .iter()
-            .flat_map(|p| &p.segments)
-            .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()))
-            .diagonal();
-        let gap = default_join_gap(extent);
+        let (extent, short) = drawing_scale(&d.pieces);
+        let gap = default_join_gap(extent, short);
         let c = chain(d.pieces, gap);
         n_loops += c.loops.len();
         n_segments += c.loops.iter().map(|l| l.segments.len()).sum::<usize>();

@@ -1,7 +1,7 @@
 //! One drawing in, one outcome per profile out: the whole pipeline for a single file.
 
-use crate::geom::{chain, drop_crossing_loops, nest, BBox, Profile};
-use crate::import::{self, Drawing, LengthUnit, ReadOptions};
+use crate::geom::{chain, drop_crossing_loops, nest, BBox, Profile, Segment};
+use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{section_props, SectionProps};
 
 /// Settings that shape how a drawing is read and measured.
@@ -43,9 +43,41 @@ pub struct Outcome {
 
 /// Default chaining gap: 1e-4 of the drawing's extent (its bounding-box diagonal), kept
 /// between 1e-6 mm and 0.05 mm, so that CAD rounding (micrometres) closes and real gaps
-/// (tenths of a millimetre and more) do not (common practice; see README).
-pub fn default_join_gap(extent_mm: f64) -> f64 {
-    (extent_mm * 1e-4).clamp(1e-6, 0.05)
+/// (tenths of a millimetre and more) do not (common practice; see README). It is also kept
+/// at most a quarter of the drawing's short segments (`short_segment_mm`, see
+/// [`drawing_scale`]; not below 1e-6 mm): the gap is the size below which a segment counts as
+/// noise, and a finely divided outline (a curve exported as thousands of short lines) must
+/// keep its segments.
+pub fn default_join_gap(extent_mm: f64, short_segment_mm: f64) -> f64 {
+    (extent_mm * 1e-4)
+        .clamp(1e-6, 0.05)
+        .min((0.25 * short_segment_mm).max(1e-6))
+}
+
+/// The extent of a drawing's pieces (the diagonal of a box holding them) and the length of
+/// its short segments: the 1st percentile of the lengths above zero (a few slivers do not
+/// count), infinity when there are none.
+pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
+    let mut bbox = BBox::EMPTY;
+    // Squared lengths: the order is the same, and only the chosen one needs a root.
+    let mut len2: Vec<f64> = Vec::with_capacity(pieces.iter().map(|p| p.segments.len()).sum());
+    for s in pieces.iter().flat_map(|p| p.segments.iter()) {
+        bbox = bbox.union(&s.loose_bbox());
+        let l2 = match s {
+            Segment::Line { a, b } => (*b - *a).dot(*b - *a),
+            Segment::Arc(arc) => arc.length() * arc.length(),
+        };
+        if l2 > 0.0 {
+            len2.push(l2);
+        }
+    }
+    let short = if len2.is_empty() {
+        f64::INFINITY
+    } else {
+        let k = len2.len() / 100;
+        len2.select_nth_unstable_by(k, f64::total_cmp).1.sqrt()
+    };
+    (bbox.diagonal(), short)
 }
 
 /// Read and measure one DXF file held in memory.
@@ -103,15 +135,10 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         }
         return file_row(&units_label, msg);
     }
-    let extent = drawing
-        .pieces
-        .iter()
-        .flat_map(|p| p.segments.iter())
-        .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()))
-        .diagonal();
-    let join_gap = settings
-        .join_gap
-        .unwrap_or_else(|| default_join_gap(extent));
+    let join_gap = settings.join_gap.unwrap_or_else(|| {
+        let (extent, short) = drawing_scale(&drawing.pieces);
+        default_join_gap(extent, short)
+    });
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
@@ -279,4 +306,56 @@ fn summarize_skipped(skipped: &std::collections::BTreeMap<String, usize>) -> Str
         .map(|(k, n)| format!("{n} {k}"))
         .collect::<Vec<_>>()
         .join(", ")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geom::Point;
+    use crate::import::{Location, Origin};
+
+    #[test]
+    fn default_gap_follows_the_extent_and_stays_below_short_segments() {
+        let inf = f64::INFINITY;
+        assert_eq!(default_join_gap(100.0, inf), 0.01);
+        assert_eq!(default_join_gap(1000.0, inf), 0.05); // capped
+        assert_eq!(default_join_gap(0.001, inf), 1e-6); // floor
+        assert_eq!(default_join_gap(100.0, 0.02), 0.005); // a quarter of the short segments
+        assert_eq!(default_join_gap(100.0, 1e-9), 1e-6); // never below the floor
+    }
+
+    #[test]
+    fn drawing_scale_is_the_box_diagonal_and_a_low_percentile_of_lengths() {
+        let piece = |segments: Vec<Segment>| Piece {
+            segments,
+            closed: true,
+            layer: "0".into(),
+            origin: Origin {
+                entity: "TEST",
+                location: Location::Line(1),
+                handle: None,
+            },
+        };
+        let (a, b, c, d) = (
+            Point::new(0.0, 0.0),
+            Point::new(30.0, 0.0),
+            Point::new(30.0, 40.0),
+            Point::new(0.0, 40.0),
+        );
+        // A 30 × 40 rectangle: diagonal 50; shortest of its four edges 30.
+        let rect = vec![
+            Segment::line(a, b),
+            Segment::line(b, c),
+            Segment::line(c, d),
+            Segment::line(d, a),
+        ];
+        assert_eq!(drawing_scale(&[piece(rect.clone())]), (50.0, 30.0));
+        // One sliver among 200 edges is below the 1st percentile's reach; zero-length edges
+        // do not count.
+        let mut many: Vec<Segment> = (0..199).map(|_| rect[0]).collect();
+        many.push(Segment::line(a, Point::new(1e-3, 0.0)));
+        many.push(Segment::line(a, a));
+        assert_eq!(drawing_scale(&[piece(many)]).1, 30.0);
+        assert_eq!(drawing_scale(&[]).1, f64::INFINITY);
+    }
 }

@@ -72,7 +72,7 @@ pub struct MeasureArgs {
     pub include_hidden_layers: bool,
 
     /// Largest gap in millimetres closed when chaining loose entities into loops.
-    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm. Larger gaps are reported, never closed silently.
+    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. Larger gaps are reported, never closed silently.
     #[arg(long, value_name = "MM")]
     pub gap: Option<f64>,
 

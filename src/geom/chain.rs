@@ -229,14 +229,24 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
     out
 }
 
-/// The segments without those shorter than `join_gap` (full circles excepted), in place;
-/// the segment after a dropped one starts where the one before it ends, so the run stays
-/// connected.
+/// The segments without those shorter than `join_gap` (full circles excepted) and without
+/// non-finite ones, in place. A short segment is left out only while the run stays within
+/// `join_gap` of the last point kept (the end of the last kept segment, or the run's start),
+/// so a stretch of many short segments is thinned to steps of about `join_gap` instead of
+/// vanishing; the segment after a dropped one starts at that point, so the run stays
+/// connected and moves by at most `join_gap`.
 fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> Vec<Segment> {
     let mut write = 0;
     let mut relink = false;
+    let mut anchor: Option<Point> = None;
     for read in 0..segments.len() {
         let s = segments[read];
+        if !s.is_finite() {
+            *dropped += 1;
+            relink = true;
+            continue;
+        }
+        let from = *anchor.get_or_insert(s.start());
         let tiny = match &s {
             Segment::Line { a, b } => {
                 let d = *b - *a;
@@ -244,16 +254,13 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
             }
             Segment::Arc(arc) => !arc.is_full_circle() && arc.length() <= join_gap,
         };
-        if tiny || !s.is_finite() {
+        if tiny && s.end().dist(from) <= join_gap {
             *dropped += 1;
             relink = true;
             continue;
         }
-        segments[write] = if relink && write > 0 {
-            snapped(s, segments[write - 1].end(), s.end())
-        } else {
-            s
-        };
+        segments[write] = if relink { snapped(s, from, s.end()) } else { s };
+        anchor = Some(s.end());
         write += 1;
         relink = false;
     }
