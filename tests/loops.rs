@@ -454,3 +454,27 @@ fn short_segments_under_a_large_gap_are_thinned_not_lost() {
     assert!((s.area - area).abs() < 50.0, "{} against {area}", s.area);
     assert!(out[0].message.contains("dropped"), "{}", out[0].message);
 }
+
+#[test]
+fn many_holes_in_a_finely_divided_outline() {
+    // A 2000-sided polygon of circumradius 500 with a 10 × 10 grid of round holes (radius 3,
+    // 40 apart) well inside it: one profile, 100 holes. (Enough holes for the outline to be
+    // indexed by slabs.)
+    let (pts, area) = fine_polygon(2000, 0.0, 0.0, 500.0);
+    let n = pts.len();
+    let mut pieces = vec![closed(
+        (0..n)
+            .map(|k| Segment::line(pts[k], pts[(k + 1) % n]))
+            .collect(),
+    )];
+    for i in 0..10 {
+        for j in 0..10 {
+            let (x, y) = (-180.0 + 40.0 * i as f64, -180.0 + 40.0 * j as f64);
+            pieces.push(closed(circle(x, y, 3.0)));
+        }
+    }
+    let s = only(pieces);
+    assert_eq!(s.n_holes, 100);
+    // Polygon area less 100 discs of πr².
+    assert_close!(s.area, area - 100.0 * PI * 9.0, rel = 1e-12);
+}

@@ -12,7 +12,7 @@ use std::f64::consts::PI;
 
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
-use super::predicates::{intersections, winding_number, winding_number_clear_of};
+use super::predicates::{intersections, winding_number, winding_number_clear_of, SlabIndex};
 use super::segment::{BBox, Point, Segment};
 
 /// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
@@ -596,6 +596,8 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
         }
         r
     };
+    let mut queries: Vec<u32> = vec![0; loops.len()];
+    let mut slabs: Vec<Option<SlabIndex>> = (0..loops.len()).map(|_| None).collect();
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
     for &i in &order {
@@ -624,12 +626,25 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
                 continue; // already found a smaller container
             }
             let container = &loops[j].segments;
-            let w = (0..PROBES.min(n))
-                .find_map(|k| {
-                    let q = if k == 0 { first_probe } else { probe(k) };
-                    winding_number_clear_of(container, q, tol)
-                })
-                .unwrap_or_else(|| winding_number(container, first_probe));
+            // A long loop asked about many times (a plate with many holes) gets an index.
+            queries[j] += 1;
+            if slabs[j].is_none() && queries[j] > 4 && container.len() >= 64 {
+                slabs[j] = Some(SlabIndex::new(container, tol));
+            }
+            let w = match &slabs[j] {
+                Some(index) => (0..PROBES.min(n))
+                    .find_map(|k| {
+                        let q = if k == 0 { first_probe } else { probe(k) };
+                        index.winding_number_clear_of(q, tol)
+                    })
+                    .unwrap_or_else(|| index.winding_number(first_probe)),
+                None => (0..PROBES.min(n))
+                    .find_map(|k| {
+                        let q = if k == 0 { first_probe } else { probe(k) };
+                        winding_number_clear_of(container, q, tol)
+                    })
+                    .unwrap_or_else(|| winding_number(container, first_probe)),
+            };
             if w != 0 {
                 best = Some(j);
             }

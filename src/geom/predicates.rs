@@ -207,7 +207,11 @@ pub fn winding_number_clear_of(segments: &[Segment], p: Point, clearance: f64) -
 /// The winding number, in the same pass checking (with `Some(clearance)`) that `p` is
 /// farther than that from every segment (`None` if not). Each segment is looked at closely
 /// only when `p` is within its reach: its box for the distance, its height for the ray.
-fn winding(segments: &[Segment], p: Point, clearance: Option<f64>) -> Option<i32> {
+fn winding<'a>(
+    segments: impl IntoIterator<Item = &'a Segment>,
+    p: Point,
+    clearance: Option<f64>,
+) -> Option<i32> {
     let cl = clearance.unwrap_or(-1.0);
     let check = clearance.is_some();
     let mut w = 0;
@@ -275,6 +279,111 @@ fn winding(segments: &[Segment], p: Point, clearance: Option<f64>) -> Option<i32
         }
     }
     Some(w)
+}
+
+/// A closed run's segments filed by horizontal slabs, for many winding numbers around points
+/// of other loops (a plate with thousands of holes in a finely divided outline).
+///
+/// A point looks only at the segments whose loose box, grown by `clearance`, reaches its
+/// height: no other segment can cross the ray from it or come within `clearance` of it (an
+/// arc's chord and circular segment lie inside its loose box). As many slabs as segments;
+/// a segment reaching across more than [`SlabIndex::MAX_SPAN`] slabs is kept apart and
+/// looked at for every point, so that the index stays linear in size.
+pub struct SlabIndex<'a> {
+    segments: &'a [Segment],
+    clearance: f64,
+    y0: f64,
+    inv: f64,
+    /// Segments of slab k: `items[start[k]..start[k + 1]]`.
+    start: Vec<u32>,
+    items: Vec<u32>,
+    tall: Vec<u32>,
+}
+
+impl<'a> SlabIndex<'a> {
+    const MAX_SPAN: usize = 16;
+
+    /// Index `segments` for points to be tested with a clearance of at most `clearance`.
+    pub fn new(segments: &'a [Segment], clearance: f64) -> SlabIndex<'a> {
+        let cl = clearance.max(0.0);
+        let ranges: Vec<(f64, f64)> = segments
+            .iter()
+            .map(|s| {
+                let b = s.loose_bbox();
+                (b.min.y - cl, b.max.y + cl)
+            })
+            .collect();
+        let (lo, hi) = ranges
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), r| {
+                (l.min(r.0), h.max(r.1))
+            });
+        let n = segments.len().max(1);
+        let inv = n as f64 / (hi - lo);
+        let inv = if inv.is_finite() { inv } else { 0.0 };
+        let mut index = SlabIndex {
+            segments,
+            clearance: cl,
+            y0: lo,
+            inv,
+            start: vec![0; n + 1],
+            items: Vec::new(),
+            tall: Vec::new(),
+        };
+        let spans: Vec<(usize, usize)> = ranges
+            .iter()
+            .map(|&(a, b)| (index.slab(a), index.slab(b)))
+            .collect();
+        for (i, &(k0, k1)) in spans.iter().enumerate() {
+            if k1 - k0 >= Self::MAX_SPAN {
+                index.tall.push(i as u32);
+            } else {
+                for count in &mut index.start[k0 + 1..=k1 + 1] {
+                    *count += 1;
+                }
+            }
+        }
+        for k in 0..n {
+            index.start[k + 1] += index.start[k];
+        }
+        let mut fill = index.start.clone();
+        index.items = vec![0; index.start[n] as usize];
+        for (i, &(k0, k1)) in spans.iter().enumerate() {
+            if k1 - k0 < Self::MAX_SPAN {
+                for slot in &mut fill[k0..=k1] {
+                    index.items[*slot as usize] = i as u32;
+                    *slot += 1;
+                }
+            }
+        }
+        index
+    }
+
+    /// The slab of height y, clamped into the index (a cast to i64 is one instruction).
+    fn slab(&self, y: f64) -> usize {
+        let last = self.start.len() as i64 - 2;
+        (((y - self.y0) * self.inv) as i64).clamp(0, last) as usize
+    }
+
+    /// [`winding_number`] of the run around `p`.
+    pub fn winding_number(&self, p: Point) -> i32 {
+        winding(self.near(p), p, None).unwrap_or(0)
+    }
+
+    /// [`winding_number_clear_of`] for a clearance of at most the index's.
+    pub fn winding_number_clear_of(&self, p: Point, clearance: f64) -> Option<i32> {
+        debug_assert!(clearance <= self.clearance);
+        winding(self.near(p), p, Some(clearance))
+    }
+
+    /// The segments that can matter at `p`.
+    fn near(&self, p: Point) -> impl Iterator<Item = &'a Segment> + '_ {
+        let k = self.slab(p.y);
+        let slab = &self.items[self.start[k] as usize..self.start[k + 1] as usize];
+        slab.iter()
+            .chain(self.tall.iter())
+            .map(|&i| &self.segments[i as usize])
+    }
 }
 
 /// Distance from `p` to the segment.
@@ -418,6 +527,7 @@ mod tests {
                     })
                     .collect()
             };
+            let index = SlabIndex::new(&segments, 0.05);
             for _ in 0..20 {
                 let p = match (r() * 3.0) as usize {
                     0 => Point::new(14.0 * r() - 2.0, 14.0 * r() - 2.0),
@@ -459,6 +569,13 @@ mod tests {
                 if let Some(wc) = clear {
                     assert_eq!(wc, w);
                 }
+                // The slab index gives the same answers.
+                assert_eq!(index.winding_number(p), w, "case {case} at {p:?}");
+                assert_eq!(
+                    index.winding_number_clear_of(p, cl),
+                    clear,
+                    "case {case} at {p:?}"
+                );
                 assert_eq!(
                     w,
                     winding_by_arcs(&segments, p),
@@ -484,5 +601,48 @@ mod tests {
         assert!((d(12.0, 16.0) - 10.0).abs() < 1e-12); // outside, radially
                                                        // Beside the arc's sweep: to the nearer end, (10, 0) from (10, -5).
         assert!((d(10.0, -5.0) - 5.0).abs() < 1e-12);
+    }
+
+    /// A comb: 60 teeth of long vertical edges (each reaching across most slabs, so kept
+    /// apart) and short horizontal ones, with a bulged back; the index answers as a full scan.
+    #[test]
+    fn slab_index_answers_as_a_full_scan_on_a_comb() {
+        let mut pts = vec![Point::new(0.0, 0.0)];
+        for k in 0..60 {
+            let x = k as f64 * 2.0;
+            pts.push(Point::new(x + 0.5, 0.0));
+            pts.push(Point::new(x + 0.5, 50.0));
+            pts.push(Point::new(x + 1.5, 50.0));
+            pts.push(Point::new(x + 1.5, 0.0));
+        }
+        pts.push(Point::new(121.0, 0.0));
+        pts.push(Point::new(121.0, -10.0));
+        pts.push(Point::new(0.0, -10.0));
+        let n = pts.len();
+        let segments: Vec<Segment> = (0..n)
+            .map(|k| {
+                match Arc::from_bulge(pts[k], pts[(k + 1) % n], if k == n - 2 { 0.3 } else { 0.0 })
+                {
+                    Some(arc) => Segment::Arc(arc),
+                    None => Segment::line(pts[k], pts[(k + 1) % n]),
+                }
+            })
+            .collect();
+        let index = SlabIndex::new(&segments, 0.01);
+        assert!(!index.tall.is_empty());
+        let mut r = uniform(41);
+        let mut inside = 0;
+        for _ in 0..5000 {
+            let p = Point::new(130.0 * r() - 5.0, 75.0 * r() - 20.0);
+            let w = winding_number(&segments, p);
+            assert_eq!(index.winding_number(p), w, "{p:?}");
+            assert_eq!(
+                index.winding_number_clear_of(p, 0.01),
+                winding_number_clear_of(&segments, p, 0.01),
+                "{p:?}"
+            );
+            inside += usize::from(w != 0);
+        }
+        assert!(inside > 1000, "{inside}");
     }
 }
