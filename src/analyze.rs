@@ -49,35 +49,47 @@ pub struct Outcome {
 /// noise, and a finely divided outline (a curve exported as thousands of short lines) must
 /// keep its segments.
 pub fn default_join_gap(extent_mm: f64, short_segment_mm: f64) -> f64 {
-    (extent_mm * 1e-4)
-        .clamp(1e-6, 0.05)
-        .min((0.25 * short_segment_mm).max(1e-6))
+    extent_gap(extent_mm).min((0.25 * short_segment_mm).max(1e-6))
+}
+
+/// The gap by extent alone: 1e-4 of it, kept between 1e-6 mm and 0.05 mm.
+fn extent_gap(extent_mm: f64) -> f64 {
+    (extent_mm * 1e-4).clamp(1e-6, 0.05)
 }
 
 /// The extent of a drawing's pieces (the diagonal of a box holding them) and the length of
 /// its short segments: the 1st percentile of the lengths above zero (a few slivers do not
-/// count), infinity when there are none.
+/// count) when that is short enough to lower the default gap (under four times the gap by
+/// extent), infinity otherwise.
 pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
-    let mut bbox = BBox::EMPTY;
-    // Squared lengths: the order is the same, and only the chosen one needs a root.
-    let mut len2: Vec<f64> = Vec::with_capacity(pieces.iter().map(|p| p.segments.len()).sum());
-    for s in pieces.iter().flat_map(|p| p.segments.iter()) {
-        bbox = bbox.union(&s.loose_bbox());
-        let l2 = match s {
-            Segment::Line { a, b } => (*b - *a).dot(*b - *a),
-            Segment::Arc(arc) => arc.length() * arc.length(),
-        };
-        if l2 > 0.0 {
-            len2.push(l2);
-        }
-    }
-    let short = if len2.is_empty() {
-        f64::INFINITY
-    } else {
-        let k = len2.len() / 100;
-        len2.select_nth_unstable_by(k, f64::total_cmp).1.sqrt()
+    let segments = || pieces.iter().flat_map(|p| p.segments.iter());
+    let extent = segments()
+        .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()))
+        .diagonal();
+    // Squared lengths: the order is the same, and only the chosen one needs a root. Only
+    // lengths under four times the gap by extent can lower it; they are counted first and
+    // gathered only when there are enough of them to matter.
+    let len2 = |s: &Segment| match s {
+        Segment::Line { a, b } => (*b - *a).dot(*b - *a),
+        Segment::Arc(arc) => arc.length() * arc.length(),
     };
-    (bbox.diagonal(), short)
+    let limit2 = (4.0 * extent_gap(extent)).powi(2);
+    let (mut n, mut n_short) = (0usize, 0usize);
+    for l2 in segments().map(len2) {
+        n += usize::from(l2 > 0.0);
+        n_short += usize::from(l2 > 0.0 && l2 < limit2);
+    }
+    let k = n / 100;
+    let short = if n_short > k {
+        let mut short2: Vec<f64> = segments()
+            .map(len2)
+            .filter(|&l2| l2 > 0.0 && l2 < limit2)
+            .collect();
+        short2.select_nth_unstable_by(k, f64::total_cmp).1.sqrt()
+    } else {
+        f64::INFINITY
+    };
+    (extent, short)
 }
 
 /// Read and measure one DXF file held in memory.
@@ -349,13 +361,22 @@ mod tests {
             Segment::line(c, d),
             Segment::line(d, a),
         ];
-        assert_eq!(drawing_scale(&[piece(rect.clone())]), (50.0, 30.0));
-        // One sliver among 200 edges is below the 1st percentile's reach; zero-length edges
-        // do not count.
-        let mut many: Vec<Segment> = (0..199).map(|_| rect[0]).collect();
-        many.push(Segment::line(a, Point::new(1e-3, 0.0)));
+        // Edges far longer than four times the gap by extent (4·0.005 mm): no short length.
+        assert_eq!(drawing_scale(&[piece(rect.clone())]), (50.0, f64::INFINITY));
+        // The rectangle with a 1000 mm bar beside it (gap by extent 0.05 mm): edges of 0.03
+        // and 0.04 mm are short; the shortest is the 1st percentile of five.
+        let small: Vec<Segment> = rect.iter().map(|s| s.scaled(1e-3)).collect();
+        let bar = vec![Segment::line(a, Point::new(1000.0, 0.0))];
+        let (extent, short) = drawing_scale(&[piece(small.clone()), piece(bar.clone())]);
+        assert!((extent - 1000.0).abs() < 1e-6); // √(1000² + 0.04²)
+        assert!((short - 0.03).abs() < 1e-15);
+        // One sliver among 200 short edges is below the 1st percentile's reach; zero-length
+        // edges do not count.
+        let mut many: Vec<Segment> = (0..199).map(|_| small[0]).collect();
+        many.push(Segment::line(a, Point::new(1e-6, 0.0)));
         many.push(Segment::line(a, a));
-        assert_eq!(drawing_scale(&[piece(many)]).1, 30.0);
+        let short = drawing_scale(&[piece(many), piece(bar)]).1;
+        assert!((short - 0.03).abs() < 1e-15);
         assert_eq!(drawing_scale(&[]).1, f64::INFINITY);
     }
 }

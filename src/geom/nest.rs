@@ -626,9 +626,10 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
                 continue; // already found a smaller container
             }
             let container = &loops[j].segments;
-            // A long loop asked about many times (a plate with many holes) gets an index.
+            // A long loop asked about many times (a plate with many holes) gets an index;
+            // building it costs about ten scans, so only after more than thirty.
             queries[j] += 1;
-            if slabs[j].is_none() && queries[j] > 4 && container.len() >= 64 {
+            if slabs[j].is_none() && queries[j] > 32 && container.len() >= 64 {
                 slabs[j] = Some(SlabIndex::new(container, tol));
             }
             let w = match &slabs[j] {

@@ -218,11 +218,15 @@ fn winding<'a>(
     for s in segments {
         match s {
             Segment::Line { a, b } => {
+                // Most lines are above or below `p` (beyond the clearance): neither near nor
+                // crossing the ray, decided by two comparisons.
+                let (ylo, yhi) = (a.y.min(b.y), a.y.max(b.y));
+                if p.y < ylo - cl.max(0.0) || p.y > yhi + cl.max(0.0) {
+                    continue;
+                }
                 if check
                     && p.x >= a.x.min(b.x) - cl
                     && p.x <= a.x.max(b.x) + cl
-                    && p.y >= a.y.min(b.y) - cl
-                    && p.y <= a.y.max(b.y) + cl
                     && distance_to(s, p) <= cl
                 {
                     return None;
