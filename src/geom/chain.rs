@@ -238,7 +238,8 @@ pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
 fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> Vec<Segment> {
     let mut write = 0;
     let mut relink = false;
-    let mut anchor: Option<Point> = None;
+    // The run's start: the first finite segment's start.
+    let mut start: Option<Point> = None;
     for read in 0..segments.len() {
         let s = segments[read];
         if !s.is_finite() {
@@ -246,7 +247,15 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
             relink = true;
             continue;
         }
-        let from = *anchor.get_or_insert(s.start());
+        let run_start = *start.get_or_insert(s.start());
+        // The last point kept (the run's start until a segment is kept).
+        let from = || {
+            if write > 0 {
+                segments[write - 1].end()
+            } else {
+                run_start
+            }
+        };
         let tiny = match &s {
             Segment::Line { a, b } => {
                 let d = *b - *a;
@@ -254,13 +263,12 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
             }
             Segment::Arc(arc) => !arc.is_full_circle() && arc.length() <= join_gap,
         };
-        if tiny && s.end().dist(from) <= join_gap {
+        if tiny && s.end().dist(from()) <= join_gap {
             *dropped += 1;
             relink = true;
             continue;
         }
-        segments[write] = if relink { snapped(s, from, s.end()) } else { s };
-        anchor = Some(s.end());
+        segments[write] = if relink { snapped(s, from(), s.end()) } else { s };
         write += 1;
         relink = false;
     }
