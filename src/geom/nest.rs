@@ -38,7 +38,7 @@ impl Profile {
 /// fillet) are not crossings; two different loops that only touch (at a segment end of
 /// either, or tangentially) are allowed, since the regions they bound still do not overlap.
 ///
-/// Candidate pairs come from [`for_each_overlapping_pair`] (a sweep over the segments' boxes,
+/// Candidate pairs come from `for_each_overlapping_pair` (a sweep over the segments' boxes,
 /// or a uniform grid where the sweep would test too many), so the work grows with the number
 /// of segments, not its square.
 pub fn drop_crossing_loops(

@@ -193,7 +193,7 @@ fn arc_arc(x: &Arc, y: &Arc, tol: f64) -> Vec<Hit> {
 /// around the others, so an arc adds its chord's crossings, and ±1 when `p` is inside its
 /// circular segment (inside the circle, on the arc's side of the chord). No angles; only
 /// when `p` is on an arc's circle or chord line is the arc itself followed
-/// ([`arc_ray_crossings`]).
+/// (`arc_ray_crossings`).
 pub fn winding_number(segments: &[Segment], p: Point) -> i32 {
     winding(segments, p, None).unwrap_or(0)
 }
@@ -291,7 +291,7 @@ fn winding<'a>(
 /// A point looks only at the segments whose loose box, grown by `clearance`, reaches its
 /// height: no other segment can cross the ray from it or come within `clearance` of it (an
 /// arc's chord and circular segment lie inside its loose box). As many slabs as segments;
-/// a segment reaching across more than [`SlabIndex::MAX_SPAN`] slabs is kept apart and
+/// a segment reaching across more than `SlabIndex::MAX_SPAN` (16) slabs is kept apart and
 /// looked at for every point, so that the index stays linear in size.
 pub struct SlabIndex<'a> {
     segments: &'a [Segment],

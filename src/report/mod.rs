@@ -79,7 +79,7 @@ pub fn header(unit: LengthUnit) -> Vec<String> {
     h
 }
 
-/// Numeric values of a row in the column order of [`NUMERIC`], converted from millimetres
+/// Numeric values of a row in the column order of `NUMERIC`, converted from millimetres
 /// to `unit`; `None` for an error row.
 pub fn numeric_values(o: &Outcome, unit: LengthUnit, density_kg_m3: f64) -> Option<Vec<f64>> {
     let p = o.result.as_ref().ok()?;
