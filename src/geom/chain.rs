@@ -268,7 +268,11 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
             relink = true;
             continue;
         }
-        segments[write] = if relink { snapped(s, from(), s.end()) } else { s };
+        segments[write] = if relink {
+            snapped(s, from(), s.end())
+        } else {
+            s
+        };
         write += 1;
         relink = false;
     }
