@@ -397,16 +397,17 @@ fn a_cut_out_sharing_an_edge_with_the_outline_is_a_hole() {
     }
 }
 
-/// Vertices of a regular polygon of `n` sides and circumradius `r` about (cx, cy), and its
-/// area n·r²·sin(2π/n)/2 (shoelace formula on a regular polygon).
-fn fine_polygon(n: usize, cx: f64, cy: f64, r: f64) -> (Vec<sectio::geom::Point>, f64) {
-    let pts = (0..n)
-        .map(|k| {
-            let a = 2.0 * PI * k as f64 / n as f64;
-            p(cx + r * a.cos(), cy + r * a.sin())
-        })
+/// The edges of a regular polygon of `n` sides and circumradius `r` about (cx, cy),
+/// counter-clockwise, and its area n·r²·sin(2π/n)/2 (shoelace formula on a regular polygon).
+fn fine_polygon(n: usize, cx: f64, cy: f64, r: f64) -> (Vec<Segment>, f64) {
+    let vertex = |k: usize| {
+        let a = 2.0 * PI * (k % n) as f64 / n as f64;
+        p(cx + r * a.cos(), cy + r * a.sin())
+    };
+    let edges = (0..n)
+        .map(|k| Segment::line(vertex(k), vertex(k + 1)))
         .collect();
-    (pts, n as f64 * r * r * (2.0 * PI / n as f64).sin() / 2.0)
+    (edges, n as f64 * r * r * (2.0 * PI / n as f64).sin() / 2.0)
 }
 
 #[test]
@@ -415,11 +416,8 @@ fn a_finely_divided_outline_keeps_all_its_segments() {
     // polyline: 1e-4 of the extent would make a gap of 0.028 mm, longer than the segments;
     // the default gap stays below a quarter of them, so nothing is dropped and the area is
     // the polygon's.
-    let (pts, area) = fine_polygon(40_000, 3000.0, -2000.0, 100.0);
-    let n = pts.len();
-    let edges: Vec<Segment> = (0..n)
-        .map(|k| Segment::line(pts[k], pts[(k + 1) % n]))
-        .collect();
+    let (edges, area) = fine_polygon(40_000, 3000.0, -2000.0, 100.0);
+    let n = edges.len();
     let mut loose: Vec<_> = edges.iter().map(|s| open(vec![*s])).collect();
     // A fixed shuffle: every 7th edge first, and so on (7 and 40 000 share no factor).
     loose = (0..n).map(|k| loose[(7 * k) % n].clone()).collect();
@@ -437,11 +435,7 @@ fn short_segments_under_a_large_gap_are_thinned_not_lost() {
     // The same kind of outline with a gap the user set far above its segments (1.57 mm
     // edges, gap 5 mm): runs of short edges are thinned to steps of about the gap, each
     // moving the outline by at most the gap, so the circle stays a circle.
-    let (pts, area) = fine_polygon(2000, 0.0, 0.0, 500.0);
-    let n = pts.len();
-    let edges: Vec<Segment> = (0..n)
-        .map(|k| Segment::line(pts[k], pts[(k + 1) % n]))
-        .collect();
+    let (edges, area) = fine_polygon(2000, 0.0, 0.0, 500.0);
     let settings = Settings {
         join_gap: Some(5.0),
         ..Settings::default()
@@ -460,13 +454,8 @@ fn many_holes_in_a_finely_divided_outline() {
     // A 2000-sided polygon of circumradius 500 with a 10 × 10 grid of round holes (radius 3,
     // 40 apart) well inside it: one profile, 100 holes. (Enough holes for the outline to be
     // indexed by slabs.)
-    let (pts, area) = fine_polygon(2000, 0.0, 0.0, 500.0);
-    let n = pts.len();
-    let mut pieces = vec![closed(
-        (0..n)
-            .map(|k| Segment::line(pts[k], pts[(k + 1) % n]))
-            .collect(),
-    )];
+    let (edges, area) = fine_polygon(2000, 0.0, 0.0, 500.0);
+    let mut pieces = vec![closed(edges)];
     for i in 0..10 {
         for j in 0..10 {
             let (x, y) = (-180.0 + 40.0 * i as f64, -180.0 + 40.0 * j as f64);
