@@ -244,7 +244,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             let bbox = pr.bbox();
             items.push(Item {
                 key: (bbox.min.x, bbox.min.y),
-                outcome: make("", Err(pr.describe())),
+                outcome: make(pr.layer(), Err(pr.describe())),
             });
         }
     }

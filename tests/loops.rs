@@ -467,3 +467,32 @@ fn many_holes_in_a_finely_divided_outline() {
     // Polygon area less 100 discs of πr².
     assert_close!(s.area, area - 100.0 * PI * 9.0, rel = 1e-12);
 }
+
+#[test]
+fn error_rows_name_the_layer_of_the_entity_they_name() {
+    // A broken rectangle and a bow-tie, each on a layer of its own, far apart.
+    let on = |layer: &str, mut pc: sectio::import::Piece| {
+        pc.layer = layer.into();
+        pc
+    };
+    let pieces = vec![
+        on("OUTLINE", line((0.0, 0.0), (100.0, 0.0))),
+        on("OUTLINE", line((100.0, 0.0), (100.0, 50.0))),
+        on("OUTLINE", line((100.0, 50.0), (0.0, 50.0))),
+        on("OUTLINE", line((0.0, 50.0), (0.0, 0.5))),
+        on(
+            "BOWTIE",
+            closed(vec![
+                Segment::line(p(500.0, 0.0), p(600.0, 100.0)),
+                Segment::line(p(600.0, 100.0), p(600.0, 0.0)),
+                Segment::line(p(600.0, 0.0), p(500.0, 100.0)),
+                Segment::line(p(500.0, 100.0), p(500.0, 0.0)),
+            ]),
+        ),
+    ];
+    let out = measure(pieces);
+    assert_eq!(out.len(), 2, "{out:#?}");
+    assert!(out.iter().all(|o| o.result.is_err()), "{out:#?}");
+    assert_eq!(out[0].layer, "OUTLINE");
+    assert_eq!(out[1].layer, "BOWTIE");
+}

@@ -44,7 +44,7 @@ impl Loop {
 }
 
 /// A problem found while building loops. Each carries the box of the geometry concerned, so
-/// that profiles it overlaps can be flagged.
+/// that profiles it overlaps can be flagged, and the layer of the entity it names.
 #[derive(Debug, Clone, PartialEq)]
 pub enum LoopProblem {
     /// A chain that nearly closes: its ends `gap_at` are `gap` apart.
@@ -54,6 +54,7 @@ pub enum LoopProblem {
         length: f64,
         bbox: BBox,
         origin: Origin,
+        layer: LayerName,
     },
     /// `ends` segment ends meet at one point.
     Branch {
@@ -61,21 +62,28 @@ pub enum LoopProblem {
         ends: usize,
         bbox: BBox,
         origin: Origin,
+        layer: LayerName,
     },
     /// A loop crosses or touches itself.
     SelfIntersection {
         at: Point,
         bbox: BBox,
         origin: Origin,
+        layer: LayerName,
     },
     /// Two loops cross each other.
     LoopsCross {
         at: Point,
         bbox: BBox,
         origin: Origin,
+        layer: LayerName,
     },
     /// A loop encloses no area.
-    ZeroArea { bbox: BBox, origin: Origin },
+    ZeroArea {
+        bbox: BBox,
+        origin: Origin,
+        layer: LayerName,
+    },
 }
 
 impl LoopProblem {
@@ -86,6 +94,17 @@ impl LoopProblem {
             | LoopProblem::SelfIntersection { bbox, .. }
             | LoopProblem::LoopsCross { bbox, .. }
             | LoopProblem::ZeroArea { bbox, .. } => *bbox,
+        }
+    }
+
+    /// The layer of the entity the problem names.
+    pub fn layer(&self) -> &str {
+        match self {
+            LoopProblem::OpenChain { layer, .. }
+            | LoopProblem::Branch { layer, .. }
+            | LoopProblem::SelfIntersection { layer, .. }
+            | LoopProblem::LoopsCross { layer, .. }
+            | LoopProblem::ZeroArea { layer, .. } => layer,
         }
     }
 
@@ -628,6 +647,7 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
                 ends: degree[n as usize] as usize,
                 bbox,
                 origin: meta[runs[r0].1].1,
+                layer: meta[runs[r0].1].0.clone(),
             });
         }
     }
@@ -753,6 +773,7 @@ fn classify_open(open: Vec<(Vec<Segment>, usize)>, meta: &[Meta], out: &mut Chai
                 length: info.length,
                 bbox: info.bbox,
                 origin: meta[info.piece].1,
+                layer: meta[info.piece].0.clone(),
             }),
             None => out.stray_chains += 1,
         }

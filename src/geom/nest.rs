@@ -55,11 +55,13 @@ pub fn drop_crossing_loops(
                 at,
                 bbox: l.bbox(),
                 origin: l.origin,
+                layer: l.layer,
             }),
             Some((at, false)) => problems.push(LoopProblem::LoopsCross {
                 at,
                 bbox: l.bbox(),
                 origin: l.origin,
+                layer: l.layer,
             }),
         }
     }
@@ -557,6 +559,7 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
             problems.push(LoopProblem::ZeroArea {
                 bbox: bb,
                 origin: l.origin,
+                layer: l.layer,
             });
             continue;
         }
