@@ -635,20 +635,19 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
             if slabs[j].is_none() && queries[j] > 32 && container.len() >= 64 {
                 slabs[j] = Some(SlabIndex::new(container, tol));
             }
-            let w = match &slabs[j] {
-                Some(index) => (0..PROBES.min(n))
-                    .find_map(|k| {
-                        let q = if k == 0 { first_probe } else { probe(k) };
-                        index.winding_number_clear_of(q, tol)
-                    })
-                    .unwrap_or_else(|| index.winding_number(first_probe)),
-                None => (0..PROBES.min(n))
-                    .find_map(|k| {
-                        let q = if k == 0 { first_probe } else { probe(k) };
-                        winding_number_clear_of(container, q, tol)
-                    })
-                    .unwrap_or_else(|| winding_number(container, first_probe)),
+            let index = slabs[j].as_ref();
+            // The winding number around `q`: with a clearance, only if `q` is that clear of
+            // the container (else `None`); without one, regardless.
+            let around = |q: Point, clearance: Option<f64>| match (index, clearance) {
+                (Some(ix), Some(c)) => ix.winding_number_clear_of(q, c),
+                (Some(ix), None) => Some(ix.winding_number(q)),
+                (None, Some(c)) => winding_number_clear_of(container, q, c),
+                (None, None) => Some(winding_number(container, q)),
             };
+            let w = (0..PROBES.min(n))
+                .find_map(|k| around(if k == 0 { first_probe } else { probe(k) }, Some(tol)))
+                .or_else(|| around(first_probe, None))
+                .unwrap_or(0);
             if w != 0 {
                 best = Some(j);
             }
