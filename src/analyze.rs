@@ -1,6 +1,6 @@
 //! One drawing in, one outcome per profile out: the whole pipeline for a single file.
 
-use crate::geom::{chain, drop_crossing_loops, nest, BBox, Profile, Segment};
+use crate::geom::{chain, drop_crossing_loops, nest, BBox, CurvePiece, Profile, Segment};
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{section_props, SectionProps};
 
@@ -70,7 +70,8 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     // lengths under four times the gap by extent can lower it; they are counted first and
     // gathered only when there are enough of them to matter.
     let len2 = |s: &Segment| match s {
-        Segment::Line { a, b } => (*b - *a).dot(*b - *a),
+        // A curve's chords count too: the gap must stay well below them.
+        Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => (*b - *a).dot(*b - *a),
         Segment::Arc(arc) => arc.length() * arc.length(),
     };
     let limit2 = (4.0 * extent_gap(extent)).powi(2);
@@ -138,6 +139,9 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
                 *s = s.scaled(unit.mm);
             }
         }
+        for c in &mut drawing.curves {
+            *c = c.scaled(unit.mm);
+        }
     }
     let skipped = summarize_skipped(&drawing.skipped);
     if drawing.pieces.is_empty() {
@@ -154,7 +158,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let profiles = nest(loops, join_gap, &mut problems);
+    let profiles = nest(loops, join_gap, &drawing.curves, &mut problems);
 
     if !skipped.is_empty() {
         notes.push(format!("skipped {skipped}"));
@@ -378,5 +382,92 @@ mod tests {
         let short = drawing_scale(&[piece(many), piece(bar)]).1;
         assert!((short - 0.03).abs() < 1e-15);
         assert_eq!(drawing_scale(&[]).1, f64::INFINITY);
+    }
+
+    /// A tube drawn with curve pieces (chords plus span table) measures like the exact one:
+    /// the pieces are shuffled and some reversed, and the drawing is in centimetres far from
+    /// the origin, so the span table's scaling and the corrections' signs are exercised.
+    #[test]
+    fn curve_pieces_measure_exactly_through_the_pipeline() {
+        use crate::geom::moments::{arc_moments, line_moments};
+        use crate::geom::{Arc, CurvePiece, CurveSpan};
+        use crate::import::{LengthUnit, SourceUnits};
+        use std::f64::consts::PI;
+        let origin = Origin {
+            entity: "TEST",
+            location: Location::Line(1),
+            handle: None,
+        };
+        // Pieces mostly along their spans, then mostly against them.
+        for flip in [false, true] {
+            let (c, r_out, r_in) = (Point::new(4000.0, -2500.0), 3.0, 2.0);
+            let mut curves: Vec<CurveSpan> = Vec::new();
+            let mut pieces: Vec<Piece> = Vec::new();
+            for (r, n) in [(r_out, 12), (r_in, 7)] {
+                for k in 0..n {
+                    let arc =
+                        Arc::from_center(c, r, 2.0 * PI * k as f64 / n as f64, 2.0 * PI / n as f64);
+                    let at = (arc.start + arc.end) * 0.5;
+                    let chord = line_moments(arc.start - at, arc.end - at);
+                    curves.push(CurveSpan {
+                        at,
+                        correction: arc_moments(&arc, at) + chord * -1.0,
+                        length: arc.length(),
+                        bbox: arc.bbox(),
+                    });
+                    let seg = Segment::Curve(CurvePiece {
+                        a: arc.start,
+                        b: arc.end,
+                        mid: arc.point_at(0.5),
+                        span: (curves.len() - 1) as u32,
+                        reversed: false,
+                    });
+                    pieces.push(Piece {
+                        segments: vec![if (k % 3 == 1) != flip {
+                            seg.reversed()
+                        } else {
+                            seg
+                        }],
+                        closed: false,
+                        layer: "0".into(),
+                        origin,
+                    });
+                }
+            }
+            pieces.reverse();
+            let drawing = Drawing {
+                units: SourceUnits {
+                    declared: Some(LengthUnit::CM),
+                    code: Some(5),
+                },
+                pieces,
+                curves,
+                ..Drawing::default()
+            };
+            let out = measure_drawing(drawing, &Settings::default());
+            assert_eq!(out.len(), 1, "{out:?}");
+            let got = out[0].result.as_ref().expect("measured");
+            // In millimetres: radii 30 and 20. Tube: A = π(R² − r²), Ixx = π(R⁴ − r⁴)/4
+            // (check-values.md §1, hollow circle row).
+            let (ro, ri) = (10.0 * r_out, 10.0 * r_in);
+            let rel = |a: f64, b: f64| (a - b).abs() / b.abs();
+            assert!(
+                rel(got.area, PI * (ro * ro - ri * ri)) < 1e-12,
+                "{}",
+                got.area
+            );
+            assert!(rel(got.ixx, PI * (ro.powi(4) - ri.powi(4)) / 4.0) < 1e-11);
+            assert!(rel(got.iyy, got.ixx) < 1e-11 && got.ixy.abs() < 1e-9 * got.ixx);
+            assert!(rel(got.perimeter, 2.0 * PI * (ro + ri)) < 1e-12);
+            assert!(rel(got.perimeter_outer, 2.0 * PI * ro) < 1e-12);
+            assert!(
+                (got.centroid.x - 40_000.0).abs() < 1e-8
+                    && (got.centroid.y + 25_000.0).abs() < 1e-8
+            );
+            // The box is the circle's, not its chords'.
+            assert!((got.bbox.min.x - (40_000.0 - ro)).abs() < 1e-9);
+            assert!((got.bbox.max.y - (-25_000.0 + ro)).abs() < 1e-9);
+            assert_eq!(got.n_holes, 1);
+        }
     }
 }

@@ -50,7 +50,7 @@ fn assert_point(got: Point, want: (f64, f64), tol: f64) {
 fn arc_of(s: &Segment) -> sectio::geom::Arc {
     match s {
         Segment::Arc(a) => *a,
-        Segment::Line { .. } => panic!("expected an arc, got {s:?}"),
+        _ => panic!("expected an arc, got {s:?}"),
     }
 }
 
@@ -1187,7 +1187,7 @@ fn same_shape(piece: &sectio::import::Piece, shape: &Shape) -> Result<(), String
                 }
                 let sweep = match s {
                     Segment::Arc(arc) => arc.sweep,
-                    Segment::Line { .. } => 0.0,
+                    _ => 0.0,
                 };
                 // Bulge = tan(θ/4) (DXF reference, LWPOLYLINE group 42; from memory).
                 if (sweep - 4.0 * bulge.atan()).abs() > 1e-9 {

@@ -7,7 +7,7 @@ use std::f64::consts::PI;
 
 use rand::rngs::StdRng;
 use rand::{Rng, SeedableRng};
-use sectio::geom::Segment;
+use sectio::geom::{CurvePiece, Segment};
 use sectio::import::Piece;
 use sectio::section::SectionProps;
 use util::*;
@@ -264,7 +264,9 @@ fn arcs_agree_with_geo_on_flattened_outlines() {
         let mut ring: Vec<geo::Coord<f64>> = Vec::new();
         for s in &base[0].segments {
             match s {
-                Segment::Line { a, .. } => ring.push(geo::coord! {x: a.x, y: a.y}),
+                Segment::Line { a, .. } | Segment::Curve(CurvePiece { a, .. }) => {
+                    ring.push(geo::coord! {x: a.x, y: a.y})
+                }
                 Segment::Arc(arc) => {
                     // Chord count so that the sagitta r(1 − cos(Δ/2n)) stays below tol.
                     let step = 2.0 * (1.0 - tol / arc.radius).acos();

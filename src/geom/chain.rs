@@ -16,7 +16,7 @@
 use std::collections::HashMap;
 use std::hash::{Hash, Hasher};
 
-use super::segment::{BBox, Point, Segment};
+use super::segment::{BBox, CurveSpan, Point, Segment};
 use crate::import::{LayerName, Origin, Piece};
 
 /// A closed loop of segments, each starting where the previous one ends.
@@ -29,10 +29,29 @@ pub struct Loop {
 }
 
 impl Loop {
+    /// The box of the loop, with curve pieces boxed by their chords (within the flattening
+    /// tolerance of the curve); see [`Loop::exact_bbox`].
     pub fn bbox(&self) -> BBox {
         self.segments
             .iter()
             .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()))
+    }
+    /// The exact box of the loop: curve pieces count with their curve's box from `curves`.
+    pub fn exact_bbox(&self, curves: &[CurveSpan]) -> BBox {
+        self.segments.iter().fold(BBox::EMPTY, |b, s| match s {
+            Segment::Curve(c) => b.union(&curves[c.span as usize].bbox),
+            s => b.union(&s.bbox()),
+        })
+    }
+    /// The length of the loop: curve pieces count with their curve's length from `curves`.
+    pub fn length(&self, curves: &[CurveSpan]) -> f64 {
+        self.segments
+            .iter()
+            .map(|s| match s {
+                Segment::Curve(c) => curves[c.span as usize].length,
+                s => s.length(),
+            })
+            .sum()
     }
     /// Reverse the direction of travel.
     pub fn reverse(&mut self) {
@@ -276,7 +295,9 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
             }
         };
         let tiny = match &s {
-            Segment::Line { a, b } => {
+            // A curve piece this short goes like a line; its curve's correction, below
+            // the gap times the flattening tolerance, goes with it.
+            Segment::Line { a, b } | Segment::Curve(super::segment::CurvePiece { a, b, .. }) => {
                 let d = *b - *a;
                 d.dot(d) <= join_gap * join_gap
             }
@@ -316,6 +337,12 @@ fn seg_key(s: &Segment, q: f64) -> SegKey {
     // both the chord and the sweep round.
     let third = match s {
         Segment::Line { .. } => (0, 0),
+        // The curve's own midpoint tells two curves through the same ends apart, and a
+        // curve piece from a straight line.
+        Segment::Curve(c) => {
+            let m = cell(c.mid);
+            (m.0, m.1 ^ 0x5a5a_5a5a)
+        }
         Segment::Arc(arc) => {
             let d = arc.end - arc.start;
             let len = d.norm();
@@ -400,6 +427,11 @@ fn close_up(segments: Vec<Segment>, layer: LayerName, origin: Origin) -> Loop {
 fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
     match seg {
         Segment::Line { .. } => Segment::Line { a: start, b: end },
+        Segment::Curve(c) => Segment::Curve(super::segment::CurvePiece {
+            a: start,
+            b: end,
+            ..c
+        }),
         Segment::Arc(mut arc) => {
             arc.start = start;
             arc.end = end;

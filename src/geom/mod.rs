@@ -17,4 +17,4 @@ pub mod segment;
 pub use chain::{chain, Chained, Loop, LoopProblem};
 pub use moments::Moments;
 pub use nest::{drop_crossing_loops, nest, Profile};
-pub use segment::{Arc, BBox, Point, Segment};
+pub use segment::{Arc, BBox, CurvePiece, CurveSpan, Point, Segment};

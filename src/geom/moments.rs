@@ -21,7 +21,7 @@
 //! example the centre of its bounding box) so that drawings far from (0, 0) keep full
 //! precision.
 
-use super::segment::{rotated, Arc, Point, Segment};
+use super::segment::{rotated, Arc, CurveSpan, Point, Segment};
 use std::f64::consts::PI;
 use std::ops::{Add, AddAssign, Mul};
 
@@ -216,20 +216,28 @@ pub fn arc_moments(arc: &Arc, origin: Point) -> Moments {
     line_moments(p, q) + seg * sign
 }
 
-/// Green's-theorem contribution of one segment, about `origin`.
-pub fn segment_moments(seg: &Segment, origin: Point) -> Moments {
+/// Green's-theorem contribution of one segment, about `origin`, with `curves` the span table
+/// that curve pieces name (a curve piece contributes its chord plus its span's correction,
+/// negated when the piece runs backwards).
+pub fn segment_moments(seg: &Segment, origin: Point, curves: &[CurveSpan]) -> Moments {
     match seg {
         Segment::Line { a, b } => line_moments(*a - origin, *b - origin),
         Segment::Arc(arc) => arc_moments(arc, origin),
+        Segment::Curve(c) => {
+            let span = &curves[c.span as usize];
+            let correction = span.correction.shifted(origin - span.at);
+            let sign = if c.reversed { -1.0 } else { 1.0 };
+            line_moments(c.a - origin, c.b - origin) + correction * sign
+        }
     }
 }
 
 /// Integrals of the region enclosed by a closed run of segments, about `origin`, signed by
-/// direction (counter-clockwise positive).
-pub fn loop_moments(segments: &[Segment], origin: Point) -> Moments {
+/// direction (counter-clockwise positive); `curves` is the span table of its curve pieces.
+pub fn loop_moments(segments: &[Segment], origin: Point, curves: &[CurveSpan]) -> Moments {
     segments
         .iter()
-        .map(|s| segment_moments(s, origin))
+        .map(|s| segment_moments(s, origin, curves))
         .fold(Moments::default(), Add::add)
 }
 

@@ -13,7 +13,7 @@ use std::f64::consts::PI;
 use super::chain::{FastMap, Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
 use super::predicates::{intersections, winding_number, winding_number_clear_of, SlabIndex};
-use super::segment::{BBox, Point, Segment};
+use super::segment::{BBox, CurveSpan, Point, Segment};
 
 /// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
 #[derive(Debug, Clone, PartialEq)]
@@ -24,6 +24,10 @@ pub struct Profile {
     pub bbox: BBox,
     /// Area integrals of the profile (outer loop less holes) about the centre of `bbox`.
     pub moments: Moments,
+    /// Length of the outer loop.
+    pub outer_length: f64,
+    /// Length of the holes together.
+    pub holes_length: f64,
 }
 
 impl Profile {
@@ -461,7 +465,7 @@ fn only_share_their_vertex(first: &Segment, second: &Segment, tol: f64) -> bool 
             side * arc.sweep.signum() > tol
         }
     };
-    match (first, second) {
+    match (&first.straight(), &second.straight()) {
         (Segment::Line { a, b }, Segment::Line { a: c, b: d }) => {
             // Not parallel (sine of the angle above 1e-9), or pointing on, not back.
             let (u, v) = (*b - *a, *d - *c);
@@ -493,6 +497,7 @@ fn only_share_their_vertex(first: &Segment, second: &Segment, tol: f64) -> bool 
             };
             x.sweep.abs() <= PI && y.sweep.abs() <= PI && tangent(x).dot(tangent(y)) > 0.0
         }
+        (Segment::Curve(_), _) | (_, Segment::Curve(_)) => unreachable!("straightened above"),
     }
 }
 
@@ -500,9 +505,12 @@ fn only_share_their_vertex(first: &Segment, second: &Segment, tol: f64) -> bool 
 /// little before and after `at` along the first segment lie on the same side of the second.
 fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> bool {
     use super::Segment;
-    if let (Segment::Line { .. }, Segment::Line { .. }) = (s1, s2) {
+    if let (Segment::Line { .. } | Segment::Curve(_), Segment::Line { .. } | Segment::Curve(_)) =
+        (s1, s2)
+    {
         return false;
     }
+    let (s1, s2) = (&s1.straight(), &s2.straight());
     // Signed distance from the second segment's line or circle.
     let side = |p: Point| -> f64 {
         match s2 {
@@ -511,6 +519,7 @@ fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> 
                 d.cross(p - *a) / d.norm()
             }
             Segment::Arc(arc) => p.dist(arc.center) - arc.radius,
+            Segment::Curve(_) => unreachable!("straightened above"),
         }
     };
     // Probe points on the first segment's own curve, a little before and after `at`.
@@ -530,6 +539,7 @@ fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> 
                 arc.center + Point::polar(ang + dang) * arc.radius,
             )
         }
+        Segment::Curve(_) => unreachable!("straightened above"),
     };
     side(before) * side(after) > 0.0
 }
@@ -542,7 +552,12 @@ fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> 
 /// other (loops that touch along an edge share points, where inside and outside is a matter
 /// of rounding): the midpoints of up to eight of its segments, spread along it, are tried in
 /// turn.
-pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> Vec<Profile> {
+pub fn nest(
+    mut loops: Vec<Loop>,
+    tol: f64,
+    curves: &[CurveSpan],
+    problems: &mut Vec<LoopProblem>,
+) -> Vec<Profile> {
     /// Points of a loop tried, at most, to find one clear of a candidate container.
     const PROBES: usize = 8;
     // Area integrals about each loop's own box centre, for precision far from the origin;
@@ -551,8 +566,8 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
     let mut moments: Vec<Moments> = Vec::with_capacity(loops.len());
     let mut keep = Vec::with_capacity(loops.len());
     for l in loops.drain(..) {
-        let bb = l.bbox();
-        let m = loop_moments(&l.segments, bb.center());
+        let bb = l.exact_bbox(curves);
+        let m = loop_moments(&l.segments, bb.center(), curves);
         let area = m.a;
         // A loop with no area: below rounding noise for its size (common practice).
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
@@ -670,11 +685,14 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
                 }
                 profile_of.insert(i, profiles.len());
                 let bbox = info[i].1;
+                let outer_length = outer.length(curves);
                 profiles.push(Profile {
                     outer,
                     holes: Vec::new(),
                     bbox,
                     moments: moments[i],
+                    outer_length,
+                    holes_length: 0.0,
                 });
             }
         }
@@ -690,6 +708,7 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
                     let d = profiles[k].bbox.center() - info[i].1.center();
                     let m = (moments[i] * -1.0).shifted(d);
                     profiles[k].moments += m;
+                    profiles[k].holes_length += hole.length(curves);
                     profiles[k].holes.push(hole);
                 }
             }

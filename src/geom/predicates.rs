@@ -2,7 +2,7 @@
 
 use std::f64::consts::{PI, TAU};
 
-use super::segment::{wrap_tau, Arc, Point, Segment};
+use super::segment::{wrap_tau, Arc, CurvePiece, Point, Segment};
 
 /// A point where two segments meet, with the fraction along each (0 at start, 1 at end).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -29,7 +29,7 @@ fn arc_fraction(arc: &Arc, angle: f64, ang_tol: f64) -> Option<f64> {
 /// All points where two segments meet, within `tol` (a length). Collinear or concentric
 /// overlaps are reported by the ends of the shared stretch.
 pub fn intersections(s1: &Segment, s2: &Segment, tol: f64) -> Vec<Hit> {
-    match (s1, s2) {
+    match (&s1.straight(), &s2.straight()) {
         (Segment::Line { a, b }, Segment::Line { a: c, b: d }) => line_line(*a, *b, *c, *d, tol),
         (Segment::Line { a, b }, Segment::Arc(arc)) => line_arc(*a, *b, arc, tol),
         (Segment::Arc(arc), Segment::Line { a, b }) => line_arc(*a, *b, arc, tol)
@@ -41,6 +41,7 @@ pub fn intersections(s1: &Segment, s2: &Segment, tol: f64) -> Vec<Hit> {
             })
             .collect(),
         (Segment::Arc(x), Segment::Arc(y)) => arc_arc(x, y, tol),
+        (Segment::Curve(_), _) | (_, Segment::Curve(_)) => unreachable!("straightened above"),
     }
 }
 
@@ -217,7 +218,7 @@ fn winding<'a>(
     let mut w = 0;
     for s in segments {
         match s {
-            Segment::Line { a, b } => {
+            Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
                 // Most lines are above or below `p` (beyond the clearance): neither near nor
                 // crossing the ray, decided by two comparisons.
                 let (ylo, yhi) = (a.y.min(b.y), a.y.max(b.y));
@@ -393,7 +394,7 @@ impl<'a> SlabIndex<'a> {
 /// Distance from `p` to the segment.
 pub fn distance_to(s: &Segment, p: Point) -> f64 {
     match s {
-        Segment::Line { a, b } => {
+        Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
             let d = *b - *a;
             let len2 = d.dot(d);
             let t = if len2 > 0.0 {
@@ -493,7 +494,9 @@ mod tests {
         segments
             .iter()
             .map(|s| match s {
-                Segment::Line { a, b } => line_ray_crossings(*a, *b, p),
+                Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
+                    line_ray_crossings(*a, *b, p)
+                }
                 Segment::Arc(arc) => arc_ray_crossings(arc, p),
             })
             .sum()
@@ -540,7 +543,9 @@ mod tests {
                         Segment::Arc(arc) => {
                             arc.center + Point::polar(TAU * r()) * (arc.radius * r())
                         }
-                        Segment::Line { a, .. } => *a + Point::new(0.3, 0.1),
+                        Segment::Line { a, .. } | Segment::Curve(CurvePiece { a, .. }) => {
+                            *a + Point::new(0.3, 0.1)
+                        }
                     },
                     // On an arc's chord.
                     _ => {
@@ -550,7 +555,7 @@ mod tests {
                     }
                 };
                 let on_curve = segments.iter().any(|s| match s {
-                    Segment::Line { a, b } => {
+                    Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
                         let d = *b - *a;
                         (p - *a).cross(d).abs() <= 1e-9 * d.norm()
                             && (p - *a).dot(d) >= 0.0

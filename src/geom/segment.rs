@@ -1,4 +1,12 @@
-//! Exact boundary pieces: straight lines and circular arcs.
+//! Exact boundary pieces: straight lines, circular arcs, and the chords of other curves.
+//!
+//! Lines and circular arcs are kept exactly. Other curves (ellipses, splines) enter the
+//! pipeline as [`CurvePiece`]s: chords between points of the curve, close to it within a
+//! flattening tolerance, which chaining, crossing and nesting treat as straight lines. Each
+//! piece names a [`CurveSpan`] in the drawing's span table that holds the exact integrals of
+//! the curve between the chord's ends, so that the measured properties stay exact.
+
+use super::moments::Moments;
 
 use std::f64::consts::{PI, TAU};
 use std::ops::{Add, Mul, Neg, Sub};
@@ -337,11 +345,67 @@ impl Arc {
     }
 }
 
-/// One exact piece of boundary.
+/// The chord a→b of a piece of a curve (an ellipse or a spline).
+///
+/// Predicates (chaining, crossings, containment) take it as the straight line a→b; the curve
+/// lies within the flattening tolerance of it. `mid` is the curve's own point halfway along
+/// the piece (by parameter), which tells two curves through the same two points apart.
+/// `span` indexes the drawing's [`CurveSpan`] table; `reversed` says that the piece runs
+/// against the direction in which the span's integrals were taken.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CurvePiece {
+    pub a: Point,
+    pub b: Point,
+    pub mid: Point,
+    pub span: u32,
+    pub reversed: bool,
+}
+
+/// Exact data of one piece of a curve, for the [`CurvePiece`]s that name it.
+///
+/// `correction` is the Green's-theorem contribution of the curve from the chord's start to
+/// its end minus that of the chord, taken about `at` (a point near the piece, for precision);
+/// a loop's integrals are its segments' contributions plus the corrections of its curve
+/// pieces (negated for reversed pieces). `length` is the curve's length and `bbox` its exact
+/// box over the piece.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CurveSpan {
+    pub at: Point,
+    pub correction: Moments,
+    pub length: f64,
+    pub bbox: BBox,
+}
+
+impl CurveSpan {
+    /// The same span with every coordinate multiplied by `s > 0` (a change of units).
+    pub fn scaled(&self, s: f64) -> CurveSpan {
+        let c = &self.correction;
+        let (s2, s3, s4) = (s * s, s * s * s, s * s * s * s);
+        CurveSpan {
+            at: self.at * s,
+            correction: Moments {
+                a: c.a * s2,
+                sx: c.sx * s3,
+                sy: c.sy * s3,
+                sxx: c.sxx * s4,
+                syy: c.syy * s4,
+                sxy: c.sxy * s4,
+            },
+            length: self.length * s,
+            bbox: BBox {
+                min: self.bbox.min * s,
+                max: self.bbox.max * s,
+            },
+        }
+    }
+}
+
+/// One piece of boundary: exact lines and circular arcs, and chords of other curves.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Segment {
     Line { a: Point, b: Point },
     Arc(Arc),
+    Curve(CurvePiece),
 }
 
 impl Segment {
@@ -350,19 +414,21 @@ impl Segment {
     }
     pub fn start(&self) -> Point {
         match self {
-            Segment::Line { a, .. } => *a,
+            Segment::Line { a, .. } | Segment::Curve(CurvePiece { a, .. }) => *a,
             Segment::Arc(arc) => arc.start,
         }
     }
     pub fn end(&self) -> Point {
         match self {
-            Segment::Line { b, .. } => *b,
+            Segment::Line { b, .. } | Segment::Curve(CurvePiece { b, .. }) => *b,
             Segment::Arc(arc) => arc.end,
         }
     }
+    /// The length; for a curve piece, that of its chord (the curve's own length is in its
+    /// [`CurveSpan`]).
     pub fn length(&self) -> f64 {
         match self {
-            Segment::Line { a, b } => a.dist(*b),
+            Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => a.dist(*b),
             Segment::Arc(arc) => arc.length(),
         }
     }
@@ -370,11 +436,19 @@ impl Segment {
         match self {
             Segment::Line { a, b } => Segment::Line { a: *b, b: *a },
             Segment::Arc(arc) => Segment::Arc(arc.reversed()),
+            Segment::Curve(c) => Segment::Curve(CurvePiece {
+                a: c.b,
+                b: c.a,
+                reversed: !c.reversed,
+                ..*c
+            }),
         }
     }
+    /// The box of the segment; for a curve piece, that of its chord (the curve's own box is
+    /// in its [`CurveSpan`]).
     pub fn bbox(&self) -> BBox {
         match self {
-            Segment::Line { a, b } => {
+            Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
                 let mut bb = BBox::EMPTY;
                 bb.add_point(*a);
                 bb.add_point(*b);
@@ -387,11 +461,20 @@ impl Segment {
     /// arcs (see [`Arc::loose_bbox`]). For searches, not for reported extents.
     pub fn loose_bbox(&self) -> BBox {
         match self {
-            Segment::Line { a, b } => BBox {
+            Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => BBox {
                 min: Point::new(a.x.min(b.x), a.y.min(b.y)),
                 max: Point::new(a.x.max(b.x), a.y.max(b.y)),
             },
             Segment::Arc(arc) => arc.loose_bbox(),
+        }
+    }
+    /// The segment as predicates see it: a curve piece becomes the straight line of its
+    /// chord; lines and arcs stay as they are.
+    #[inline]
+    pub fn straight(&self) -> Segment {
+        match self {
+            Segment::Curve(c) => Segment::Line { a: c.a, b: c.b },
+            s => *s,
         }
     }
     /// The point halfway along the segment.
@@ -399,12 +482,14 @@ impl Segment {
         match self {
             Segment::Line { a, b } => (*a + *b) * 0.5,
             Segment::Arc(arc) => arc.point_at(0.5),
+            Segment::Curve(c) => c.mid,
         }
     }
     /// Whether every number in the segment is finite and an arc has a positive radius.
     pub fn is_finite(&self) -> bool {
         match self {
             Segment::Line { a, b } => a.is_finite() && b.is_finite(),
+            Segment::Curve(c) => c.a.is_finite() && c.b.is_finite() && c.mid.is_finite(),
             Segment::Arc(arc) => {
                 arc.center.is_finite()
                     && arc.start.is_finite()
@@ -430,6 +515,12 @@ impl Segment {
                 start: arc.start * s,
                 end: arc.end * s,
                 sweep: arc.sweep,
+            }),
+            Segment::Curve(c) => Segment::Curve(CurvePiece {
+                a: c.a * s,
+                b: c.b * s,
+                mid: c.mid * s,
+                ..*c
             }),
         }
     }

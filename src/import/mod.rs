@@ -10,7 +10,7 @@ pub mod units;
 use std::collections::BTreeMap;
 use std::fmt;
 
-use crate::geom::Segment;
+use crate::geom::{CurveSpan, Segment};
 pub use units::{LengthUnit, SourceUnits};
 
 /// Where something sits in a file: a line number of an ASCII file or a byte offset of a
@@ -98,6 +98,9 @@ pub struct Piece {
 pub struct Drawing {
     pub units: SourceUnits,
     pub pieces: Vec<Piece>,
+    /// Exact data of the curve pieces (ellipses, splines) among the pieces' segments,
+    /// indexed by [`CurvePiece::span`](crate::geom::CurvePiece).
+    pub curves: Vec<CurveSpan>,
     /// Entities not turned into pieces, by reason (e.g. `"TEXT"`, `"layer off: DIM"`).
     pub skipped: BTreeMap<String, usize>,
     /// Remarks for the user that are not errors.

@@ -1,6 +1,6 @@
 //! Geometric section properties of one profile (or of several merged into one section).
 
-use crate::geom::{BBox, Moments, Point, Profile, Segment};
+use crate::geom::{BBox, Moments, Point, Profile};
 
 /// Properties of a cross-section, in millimetres. Axes and signs:
 /// second moments are about axes through the centroid parallel to x and y (y up);
@@ -76,9 +76,8 @@ pub fn section_props(profiles: &[&Profile]) -> SectionProps {
     let (mut perimeter, mut perimeter_outer, mut n_holes) = (0.0, 0.0, 0);
     for p in profiles {
         m += p.moments.shifted(origin - p.bbox.center());
-        let outer = length(&p.outer.segments);
-        perimeter_outer += outer;
-        perimeter += outer + p.holes.iter().map(|h| length(&h.segments)).sum::<f64>();
+        perimeter_outer += p.outer_length;
+        perimeter += p.outer_length + p.holes_length;
         n_holes += p.holes.len();
     }
     let area = m.a;
@@ -111,8 +110,4 @@ pub fn section_props(profiles: &[&Profile]) -> SectionProps {
         r1: gyr(i1),
         r2: gyr(i2),
     }
-}
-
-fn length(segments: &[Segment]) -> f64 {
-    segments.iter().map(Segment::length).sum()
 }

