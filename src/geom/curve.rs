@@ -24,6 +24,7 @@
 
 use super::moments::{line_moments, unit_segment_integrals, Moments};
 use super::segment::{BBox, Point};
+use std::cmp::Ordering;
 use std::f64::consts::{PI, TAU};
 use std::sync::OnceLock;
 
@@ -157,14 +158,18 @@ impl EllipseArc {
         c + self.u * co + self.v * s
     }
 
-    fn point(&self, t: f64) -> Point {
-        // A full ellipse ends exactly where it starts, so that loops close exactly.
-        let t = if t == self.t1 && self.is_full() {
+    /// The parameter at which to evaluate t: a full ellipse ends exactly where it starts,
+    /// so that loops close exactly.
+    fn snapped(&self, t: f64) -> f64 {
+        if t == self.t1 && self.is_full() {
             self.t0
         } else {
             t
-        };
-        self.local_point(t, self.center)
+        }
+    }
+
+    fn point(&self, t: f64) -> Point {
+        self.local_point(self.snapped(t), self.center)
     }
 
     fn derivative(&self, t: f64) -> Point {
@@ -226,8 +231,8 @@ impl EllipseArc {
                 sxy: a * (c.x * c.y + (u.x * u.y + v.x * v.y) / 4.0),
             };
         }
-        let p = self.local_point(ta, c);
-        let q = self.local_point(tb, c);
+        let p = self.local_point(self.snapped(ta), c);
+        let q = self.local_point(self.snapped(tb), c);
         let alpha = 0.5 * dt.abs();
         let (s, co) = (0.5 * (ta + tb)).sin_cos();
         let ev = u * co + v * s;
@@ -295,7 +300,7 @@ impl EllipseArc {
 
     fn length_between(&self, ta: f64, tb: f64) -> f64 {
         let (lo, hi) = (ta.min(tb), ta.max(tb));
-        if !(hi > lo) {
+        if hi.partial_cmp(&lo) != Some(Ordering::Greater) {
             return 0.0;
         }
         // Quarter turns at most per piece keep the integrand smooth on each.
@@ -435,8 +440,9 @@ impl Nurbs {
     ///
     /// - consecutive repeated fit points are dropped; fewer than 2 distinct points is an error;
     /// - parameters by chord length, scaled to [0, 1];
-    /// - clamped knots by averaging the parameters (eq. 9.8 without end derivatives, 9.22 with
-    ///   both; with one, the windows start or end at the end that has it);
+    /// - clamped knots by averaging the parameters over windows of p (§9.2.1 without end
+    ///   derivatives: windows within ū_1..ū_{m−1}; §9.2.2 with both: windows within ū_0..ū_m;
+    ///   with one, the windows reach the end that has it);
     /// - a given end tangent (DXF stores its direction only) is scaled to the total chord
     ///   length and imposed as the derivative dC/dt there, which adds a control point;
     /// - without end tangents the ends are free in the "not-a-knot" style: the averaged knots
@@ -516,8 +522,8 @@ impl Nurbs {
         e0[0] = 1.0;
         rows.push((0, e0, q[0]));
         if let Some(d) = d0 {
-            // C'(0) = p/(U[p+1] − U[1])·(P1 − P0) for clamped knots (The NURBS Book eq. 3.7,
-            // from memory).
+            // C'(0) = p/(U[p+1] − U[1])·(P1 − P0) for clamped knots, and likewise at the end
+            // (Piegl & Tiller, The NURBS Book, ch. 3, from memory).
             let c = p as f64 / (knots[p + 1] - knots[1]);
             let mut r = vec![0.0; w];
             r[0] = -c;
@@ -738,7 +744,7 @@ impl Nurbs {
 
     fn moments_between(&self, ta: f64, tb: f64, origin: Point) -> Moments {
         let (lo, hi, sign) = self.clamped_range(ta, tb);
-        if !(hi > lo) {
+        if hi.partial_cmp(&lo) != Some(Ordering::Greater) {
             return Moments::default();
         }
         self.pieces(lo, hi)
@@ -762,7 +768,7 @@ impl Nurbs {
 
     fn length_between(&self, ta: f64, tb: f64) -> f64 {
         let (lo, hi, _) = self.clamped_range(ta, tb);
-        if !(hi > lo) {
+        if hi.partial_cmp(&lo) != Some(Ordering::Greater) {
             return 0.0;
         }
         let rule = gauss_legendre(2 * self.degree + 4);
@@ -837,19 +843,17 @@ impl Nurbs {
         let mut ts = vec![d0];
         for (k, a, b) in self.pieces(d0, d1) {
             let origin = self.ctrl[k];
-            self.flatten_piece(k, a, b, tol, origin, 0, &mut ts);
+            self.flatten_piece(k, (a, b), tol, origin, 0, &mut ts);
         }
         let closed = self.point(d0).dist(self.point(d1)) <= tol;
         let want = min_pieces.max(if closed { 4 } else { 1 });
         refine_to(ts, want)
     }
 
-    #[allow(clippy::too_many_arguments)]
     fn flatten_piece(
         &self,
         k: usize,
-        a: f64,
-        b: f64,
+        (a, b): (f64, f64),
         tol: f64,
         origin: Point,
         depth: u32,
@@ -866,8 +870,8 @@ impl Nurbs {
             return;
         }
         let mid = 0.5 * (a + b);
-        self.flatten_piece(k, a, mid, tol, origin, depth + 1, out);
-        self.flatten_piece(k, mid, b, tol, origin, depth + 1, out);
+        self.flatten_piece(k, (a, mid), tol, origin, depth + 1, out);
+        self.flatten_piece(k, (mid, b), tol, origin, depth + 1, out);
     }
 
     fn ctrl_box(&self) -> BBox {
@@ -958,7 +962,7 @@ fn solve_banded(mut rows: Vec<(usize, Vec<f64>, Point)>, w: usize) -> Result<Vec
             return singular();
         }
         let piv = rc[c - sc];
-        if !(piv.abs() > 1e-300) || !piv.is_finite() {
+        if !piv.is_finite() || piv.abs() <= 1e-300 {
             return singular();
         }
         for row in rows.iter_mut().skip(c + 1) {
