@@ -9,6 +9,7 @@
 //! This module does no I/O.
 
 pub mod chain;
+pub mod curve;
 pub mod moments;
 pub mod nest;
 pub mod predicates;
