@@ -350,6 +350,7 @@ mod tests {
                 entity: "TEST",
                 location: Location::Line(1),
                 handle: None,
+                in_block: false,
             },
         };
         let (a, b, c, d) = (
@@ -397,6 +398,7 @@ mod tests {
             entity: "TEST",
             location: Location::Line(1),
             handle: None,
+            in_block: false,
         };
         // Pieces mostly along their spans, then mostly against them.
         for flip in [false, true] {

@@ -25,38 +25,42 @@ const EXPECTED: &[(&str, usize, usize)] = &[
     ("ac1015_concave_outline_with_hole.dxf", 1, 0),
     ("ac1015_fan_plate_lines_arcs_circles.dxf", 1, 7),
     ("ac1015_holes_touching_each_other.dxf", 1, 0),
-    ("ac1015_insert_transforms.dxf", 0, 6),
+    ("ac1015_insert_transforms.dxf", 3, 0),
     ("ac1015_plate_many_circular_holes.dxf", 22, 0),
-    ("ac1015_rotated_elliptic_arcs.dxf", 0, 1),
+    ("ac1015_rotated_elliptic_arcs.dxf", 4, 0),
     ("ac1015_self_intersecting_outline.dxf", 0, 1),
     ("ac1015_t_part_lines_arcs.dxf", 3, 0),
     ("ac1018_tslot_extrusion_profile_inch.dxf", 1, 0),
-    ("ac1021_closed_splines_cp1256_no_layouts.dxf", 0, 1),
+    // Two closed splines, one inside the other.
+    ("ac1021_closed_splines_cp1256_no_layouts.dxf", 1, 0),
     ("ac1021_donut_bulge_polyline.dxf", 1, 0),
     ("ac1021_spur_gear_outline.dxf", 1, 0),
     ("ac1021_v_groove_extrusion_profile_20mm.dxf", 1, 0),
-    ("ac1024_entity_catalog_in_blocks.dxf", 29, 0),
-    ("ac1024_hatch_mixed_edge_boundary.dxf", 0, 1),
+    // One box holds two arcs that nearly close (a broken loop).
+    ("ac1024_entity_catalog_in_blocks.dxf", 28, 1),
+    ("ac1024_hatch_mixed_edge_boundary.dxf", 1, 0),
     ("ac1024_hex_nut_top_view.dxf", 2, 0),
     ("ac1024_rounded_contour_lines_arcs.dxf", 1, 0),
     ("ac1027_closed_loop_from_lines_and_arcs.dxf", 0, 1),
-    ("ac1027_dimensions_in_nested_blocks.dxf", 0, 1),
-    ("ac1027_flange_drawing_with_dimensions.dxf", 2, 19),
-    ("ac1027_mirrored_nested_block_inserts.dxf", 0, 1),
-    ("ac1027_nested_inserts_one_level.dxf", 6, 0),
+    // 14 closed frames from three levels of blocks, six of them holes.
+    ("ac1027_dimensions_in_nested_blocks.dxf", 8, 0),
+    ("ac1027_flange_drawing_with_dimensions.dxf", 2, 18),
+    ("ac1027_mirrored_nested_block_inserts.dxf", 24, 0),
+    // The inserted LINE networks overlap and branch over every polyline.
+    ("ac1027_nested_inserts_one_level.dxf", 0, 6),
     ("ac1027_nesting_parts_closed_polylines.dxf", 9, 0),
     ("ac1027_projected_grid_huge_coordinates.dxf", 1, 0),
     ("ac1027_proxy_objects_cjk_strings.dxf", 0, 1),
     ("ac1027_utf8_layer_name_no_entities.dxf", 0, 1),
     ("ac1032_arc_negative_extrusion_angle_over_360.dxf", 0, 1),
     ("ac1032_binary_mixed_entities.dxf", 0, 1),
-    ("ac1032_dynamic_block_flip.dxf", 0, 1),
+    ("ac1032_dynamic_block_flip.dxf", 2, 0),
     ("ac1032_georeferenced_outline_large_coordinates.dxf", 1, 0),
     ("ac1032_hatches_with_polyline_boundaries.dxf", 10, 0),
-    ("ac1032_shapes_polylines_circles_ellipses.dxf", 22, 0),
+    ("ac1032_shapes_polylines_circles_ellipses.dxf", 23, 0),
     // A table of boxes; one small box shares an edge with the box around it and is its hole.
     ("ac1032_text_negative_extrusion_with_outlines.dxf", 62, 21),
-    ("ac1032_uncommon_entities_mix.dxf", 2, 4),
+    ("ac1032_uncommon_entities_mix.dxf", 2, 5),
     ("bad_blocks_section_only_fragment.dxf", 0, 1),
     ("bad_decimal_comma_numbers.dxf", 0, 1),
     ("bad_missing_header_needs_recovery.dxf", 0, 1),
@@ -65,15 +69,18 @@ const EXPECTED: &[(&str, usize, usize)] = &[
     ("minimal_single_line_entities_only.dxf", 0, 1),
     ("r10_ac1006_entity_sampler.dxf", 2, 0),
     ("r12_binary_3d_diamond_lines.dxf", 0, 1),
-    ("r12_entity_sampler_ascii.dxf", 17, 0),
-    ("r12_entity_sampler_binary.dxf", 17, 0),
+    // Inserted blocks whose lines miss each other by 1e-6 (six-digit values) next to
+    // segments just as short, so the default gap stays below the misses.
+    ("r12_entity_sampler_ascii.dxf", 37, 16),
+    ("r12_entity_sampler_binary.dxf", 37, 16),
     ("r12_headerless_arc_negative_extrusion.dxf", 0, 1),
     ("r12_laser_rangefinder_floor_sketch.dxf", 0, 1),
     ("r12_polyline_variants_uppercase_ext.DXF", 0, 1),
     ("r13_ac1012_footprint_polylines_dos932.dxf", 0, 4),
     ("r13_binary_lines.dxf", 0, 1),
     ("r14_ac1014_mixed_entities_blocks.dxf", 0, 1),
-    ("r14_ac1014_splines_polylines.dxf", 0, 1),
+    // Twelve splines and a line chained into one outline.
+    ("r14_ac1014_splines_polylines.dxf", 1, 0),
     ("r1_4_comma_separated_legacy_format.dxf", 0, 1),
     ("r2_10_entity_sampler.dxf", 1, 0),
     ("r2_6_ac1003_lines_arcs.dxf", 0, 1),
@@ -153,10 +160,50 @@ fn ascii_and_binary_twins_give_the_same_rows() {
                 );
                 assert_eq!(p.n_holes, q.n_holes);
             }
-            (Err(e), Err(f)) => assert_eq!(e, f),
+            // The same problems, found at a line of one file and a byte of the other. Which
+            // entity a broken chain is named by follows the files' entity order, which differs
+            // inside blocks: the kinds are compared, and the whole text where the order agrees.
+            (Err(e), Err(f)) => {
+                let kinds =
+                    |m: &str| ["broken loop", "branch", "cross"].map(|k| m.matches(k).count());
+                assert_eq!(kinds(e), kinds(f), "{e}\nvs\n{f}");
+                if !e.contains("broken loop") {
+                    assert_eq!(without_locations(e), without_locations(f));
+                }
+            }
             (u, v) => panic!("ASCII gave {u:?}, binary {v:?}"),
         }
     }
+}
+
+/// `text` with every "line N" and "byte N" turned into "@" and handles left out (the two
+/// files number their entities differently).
+fn without_locations(text: &str) -> String {
+    let mut text = text.to_string();
+    while let Some(i) = text.find(" (handle ") {
+        let end = text[i..].find(')').map_or(text.len(), |j| i + j + 1);
+        text.replace_range(i..end, "");
+    }
+    let mut out = String::new();
+    let mut rest = text.as_str();
+    while let Some(i) = rest
+        .find("line ")
+        .into_iter()
+        .chain(rest.find("byte "))
+        .min()
+    {
+        out.push_str(&rest[..i]);
+        let after = &rest[i + 5..];
+        let digits = after.len() - after.trim_start_matches(|c: char| c.is_ascii_digit()).len();
+        if digits > 0 {
+            out.push('@');
+        } else {
+            out.push_str(&rest[i..i + 5]);
+        }
+        rest = &after[digits..];
+    }
+    out.push_str(rest);
+    out
 }
 
 #[test]

@@ -10,6 +10,7 @@
 
 pub mod chain;
 pub mod curve;
+pub mod curve_pieces;
 pub mod moments;
 pub mod nest;
 pub mod predicates;

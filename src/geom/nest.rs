@@ -922,6 +922,7 @@ mod tests {
                 entity: "LWPOLYLINE",
                 location: crate::import::Location::Line(1),
                 handle: None,
+                in_block: false,
             },
         }
     }

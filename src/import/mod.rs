@@ -68,6 +68,8 @@ pub struct Origin {
     pub location: Location,
     /// DXF handle (group 5), when the file has one.
     pub handle: Option<Handle>,
+    /// Whether the entity is part of a block definition, placed by an INSERT.
+    pub in_block: bool,
 }
 
 impl fmt::Display for Origin {
@@ -75,6 +77,9 @@ impl fmt::Display for Origin {
         write!(f, "{} at {}", self.entity, self.location)?;
         if let Some(h) = &self.handle {
             write!(f, " (handle {h})")?;
+        }
+        if self.in_block {
+            write!(f, " in a block")?;
         }
         Ok(())
     }

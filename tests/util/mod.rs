@@ -43,6 +43,7 @@ pub fn origin(entity: &'static str) -> Origin {
         entity,
         location: Location::Line(1),
         handle: None,
+        in_block: false,
     }
 }
 

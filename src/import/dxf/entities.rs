@@ -14,8 +14,11 @@
 
 use std::borrow::Cow;
 
+use super::blocks::Item;
 use super::codes::Pair;
 use super::{decode_text, Reader, Verdict};
+use crate::geom::curve::{Affine, Curve, EllipseArc, Nurbs};
+use crate::geom::curve_pieces::curve_segments;
 use crate::geom::{Arc, Point, Segment};
 use crate::import::{Handle, ImportError, LayerName, Location, Origin, Piece};
 
@@ -157,6 +160,18 @@ impl Plane {
         }
     }
 
+    /// The map of OCS points at elevation `z` onto the drawing plane, as an affine map.
+    pub(crate) fn affine(&self, z: f64) -> Affine {
+        match *self {
+            Plane::Identity => Affine::IDENTITY,
+            Plane::MirrorX => Affine::scaling(-1.0, 1.0),
+            Plane::Tilted { ax, ay, n, .. } => Affine {
+                m: [ax.x, ay.x, ax.y, ay.y],
+                t: n * z,
+            },
+        }
+    }
+
     /// Whether counter-clockwise in the OCS is clockwise in the world (N points down).
     pub(crate) fn flips(&self) -> bool {
         match *self {
@@ -230,14 +245,9 @@ fn handle(text: &[u8]) -> Option<Handle> {
 
 /// The reason text for an entity type that is not read.
 fn type_reason(ty: &[u8]) -> Cow<'_, str> {
-    match ty {
-        b"INSERT" => "INSERT (blocks not read yet)".into(),
-        b"SPLINE" => "SPLINE (not read yet)".into(),
-        b"ELLIPSE" => "ELLIPSE (not read yet)".into(),
-        _ => match std::str::from_utf8(ty) {
-            Ok(s) => s.into(),
-            Err(_) => decode_text(ty).into(),
-        },
+    match std::str::from_utf8(ty) {
+        Ok(s) => s.into(),
+        Err(_) => decode_text(ty).into(),
     }
 }
 
@@ -257,7 +267,7 @@ impl<'a> Reader<'a, '_> {
     /// Move to the next pair of the current entity (in `self.pairs.cur`); `false` at the
     /// next `0/…` pair, which is left for the next read.
     #[inline(always)]
-    fn field(&mut self) -> Result<bool, ImportError> {
+    pub(super) fn field(&mut self) -> Result<bool, ImportError> {
         self.advance_in("ENTITIES")?;
         if self.pairs.cur.code == 0 {
             self.pairs.replay();
@@ -268,7 +278,7 @@ impl<'a> Reader<'a, '_> {
     }
 
     /// Pass over the rest of an entity without parsing values.
-    fn skip_fields(&mut self) -> Result<(), ImportError> {
+    pub(super) fn skip_fields(&mut self) -> Result<(), ImportError> {
         while self.field()? {}
         Ok(())
     }
@@ -283,33 +293,42 @@ impl<'a> Reader<'a, '_> {
             }
             let at = p.location();
             match p.text() {
-                // 3DLINE: the Release 10 name of a LINE with z coordinates.
-                b"LINE" => self.read_line(at, "LINE")?,
-                b"3DLINE" => self.read_line(at, "3DLINE")?,
-                b"ARC" => self.read_arc(at, false)?,
-                b"CIRCLE" => self.read_arc(at, true)?,
-                b"LWPOLYLINE" => self.read_lwpolyline(at)?,
-                b"POLYLINE" => self.read_polyline(at)?,
                 b"ENDSEC" | b"SECTION" | b"EOF" => {
                     if self.section_end("ENTITIES") {
                         return Ok(());
                     }
                 }
-                b"INSERT" => {
-                    self.skip_fields()?;
-                    self.skip_attributes()?;
-                    self.skip(&type_reason(b"INSERT"));
+                _ => self.read_entity(at)?,
+            }
+        }
+    }
+
+    /// The entity whose `0/TYPE` pair is the current one, in ENTITIES or inside a block.
+    pub(super) fn read_entity(&mut self, at: Location) -> Result<(), ImportError> {
+        match self.pairs.cur.text() {
+            // 3DLINE: the Release 10 name of a LINE with z coordinates.
+            b"LINE" => self.read_line(at, "LINE"),
+            b"3DLINE" => self.read_line(at, "3DLINE"),
+            b"ARC" => self.read_arc(at, false),
+            b"CIRCLE" => self.read_arc(at, true),
+            b"LWPOLYLINE" => self.read_lwpolyline(at),
+            b"POLYLINE" => self.read_polyline(at),
+            b"ELLIPSE" => self.read_ellipse(at),
+            b"SPLINE" => self.read_spline(at),
+            b"INSERT" | b"MINSERT" => self.read_insert(at),
+            ty => {
+                let ty = ty.to_vec();
+                self.skip_fields()?;
+                if self.block.is_none() {
+                    self.skip(&type_reason(&ty));
                 }
-                ty => {
-                    self.skip_fields()?;
-                    self.skip(&type_reason(ty));
-                }
+                Ok(())
             }
         }
     }
 
     /// The ATTRIB entities after an INSERT, and their SEQEND: part of the INSERT.
-    fn skip_attributes(&mut self) -> Result<(), ImportError> {
+    pub(super) fn skip_attributes(&mut self) -> Result<(), ImportError> {
         loop {
             let p = self.next_in("ENTITIES")?;
             if p.is(0, b"ATTRIB") {
@@ -324,7 +343,11 @@ impl<'a> Reader<'a, '_> {
     }
 
     /// Paper space and layer checks: the layer name to use, or `None` when counted as skipped.
+    /// Inside a block both wait until an INSERT places it (see `blocks.rs`).
     fn admit(&mut self, c: &Common<'a>) -> Option<LayerName> {
+        if self.block.is_some() {
+            return Some(self.block_layer.clone());
+        }
         if c.paper {
             self.skip(reason::PAPER_SPACE);
             return None;
@@ -341,7 +364,7 @@ impl<'a> Reader<'a, '_> {
     }
 
     /// Count an entity left out for a non-finite number, with one note for the file.
-    fn skip_non_finite(&mut self, entity: &'static str, at: Location) {
+    pub(super) fn skip_non_finite(&mut self, entity: &'static str, at: Location) {
         self.skip(&format!("non-finite value: {entity}"));
         self.note_once("non-finite", || {
             format!("{entity} at {at} has a non-finite coordinate (NaN or infinity) and was left out (further cases only counted)")
@@ -350,7 +373,17 @@ impl<'a> Reader<'a, '_> {
 
     /// The map of an OCS entity onto the drawing plane, or `None` when counted as skipped.
     fn plane(&mut self, c: &Common<'a>, entity: &'static str) -> Option<Plane> {
-        match Plane::from_normal(c.normal) {
+        self.plane_at(c.normal, entity, c.at)
+    }
+
+    /// [`Reader::plane`] for an extrusion direction `normal` of the entity at `at`.
+    pub(super) fn plane_at(
+        &mut self,
+        normal: [f64; 3],
+        entity: &'static str,
+        at: Location,
+    ) -> Option<Plane> {
+        match Plane::from_normal(normal) {
             Ok(plane) => Some(plane),
             Err(PlaneError::OutOfPlane) => {
                 self.skip(&format!("not in the drawing plane: {entity}"));
@@ -358,7 +391,6 @@ impl<'a> Reader<'a, '_> {
             }
             Err(PlaneError::Invalid) => {
                 self.skip(&format!("invalid extrusion direction: {entity}"));
-                let at = c.at;
                 self.note_once("bad normal", || {
                     format!("{entity} at {at} has a zero or non-finite extrusion direction (groups 210/220/230) and was left out (further cases only counted)")
                 });
@@ -375,17 +407,57 @@ impl<'a> Reader<'a, '_> {
         segments: Vec<Segment>,
         closed: bool,
     ) {
-        let piece = Piece {
+        let origin = Origin {
+            entity,
+            location: c.at,
+            handle: c.handle.and_then(handle),
+            in_block: self.block.is_some(),
+        };
+        match &mut self.block {
+            Some(block) => block.items.push(Item::Piece {
+                segments,
+                closed,
+                layer: c.layer.to_vec(),
+                origin,
+            }),
+            None => self.push_piece(Piece {
+                segments,
+                closed,
+                layer,
+                origin,
+            }),
+        }
+    }
+
+    /// A curve read from `c`'s entity: kept whole inside a block, as curve pieces in model
+    /// space.
+    fn curve(&mut self, c: &Common<'a>, entity: &'static str, layer: LayerName, curve: Curve) {
+        let origin = Origin {
+            entity,
+            location: c.at,
+            handle: c.handle.and_then(handle),
+            in_block: self.block.is_some(),
+        };
+        if let Some(block) = &mut self.block {
+            block.items.push(Item::Curve {
+                curve,
+                layer: c.layer.to_vec(),
+                origin,
+            });
+            return;
+        }
+        let segments = curve_segments(&curve, &mut self.drawing.curves);
+        if segments.is_empty() {
+            self.skip(&format!("{entity} with no extent"));
+            return;
+        }
+        let closed = segments[0].start() == segments[segments.len() - 1].end();
+        self.push_piece(Piece {
             segments,
             closed,
             layer,
-            origin: Origin {
-                entity,
-                location: c.at,
-                handle: c.handle.and_then(handle),
-            },
-        };
-        self.push_piece(piece);
+            origin,
+        });
     }
 
     /// LINE (and 3DLINE): start 10/20, end 11/21, in world coordinates; z (30/31) is dropped.
@@ -463,6 +535,174 @@ impl<'a> Reader<'a, '_> {
             return Ok(());
         }
         self.piece(&c, entity, layer, vec![segment], circle);
+        Ok(())
+    }
+
+    /// ELLIPSE (DXF reference, ELLIPSE; from memory): centre 10/20/30 and major-axis end
+    /// 11/21/31 relative to the centre, both in world coordinates; ratio of minor to major
+    /// axis 40; start and end parameters 41/42 in radians (0 and 2π for a full ellipse),
+    /// counter-clockwise about the extrusion direction N (210/220/230). The minor axis is
+    /// ratio · (N × major) (crates.md §1, confirmed there against a general-purpose DXF
+    /// library), so with N = −Z the parameter runs clockwise in the drawing.
+    fn read_ellipse(&mut self, at: Location) -> Result<(), ImportError> {
+        let mut c = Common::new(at);
+        let (mut center, mut major) = ([0.0; 3], [0.0; 3]);
+        let (mut ratio, mut t0, mut t1) = (1.0, 0.0, std::f64::consts::TAU);
+        while self.field()? {
+            let p = &self.pairs.cur;
+            match p.code {
+                10 => center[0] = p.real()?,
+                20 => center[1] = p.real()?,
+                30 => center[2] = p.real()?,
+                11 => major[0] = p.real()?,
+                21 => major[1] = p.real()?,
+                31 => major[2] = p.real()?,
+                40 => ratio = p.real()?,
+                41 => t0 = p.real()?,
+                42 => t1 = p.real()?,
+                _ => c.take(p, true)?,
+            }
+        }
+        let Some(layer) = self.admit(&c) else {
+            return Ok(());
+        };
+        let numbers = [
+            center[0], center[1], major[0], major[1], major[2], ratio, t0, t1,
+        ];
+        if !numbers.iter().all(|v| v.is_finite()) {
+            self.skip_non_finite("ELLIPSE", at);
+            return Ok(());
+        }
+        if self.plane(&c, "ELLIPSE").is_none() {
+            return Ok(());
+        }
+        let u = Point::new(major[0], major[1]);
+        if ratio <= 0.0 || u.norm() == 0.0 {
+            self.skip("ELLIPSE with a zero axis");
+            return Ok(());
+        }
+        let len = c.normal.iter().map(|v| v * v).sum::<f64>().sqrt();
+        let n = c.normal.map(|v| v / len);
+        // N × major, in the drawing plane.
+        let v = Point::new(
+            n[1] * major[2] - n[2] * major[1],
+            n[2] * major[0] - n[0] * major[2],
+        ) * ratio;
+        let sweep = arc_sweep_deg(t0.to_degrees(), t1.to_degrees()).to_radians();
+        let ellipse = EllipseArc {
+            center: Point::new(center[0], center[1]),
+            u,
+            v,
+            t0,
+            t1: t0 + sweep,
+        };
+        self.curve(&c, "ELLIPSE", layer, Curve::Ellipse(ellipse));
+        Ok(())
+    }
+
+    /// SPLINE (DXF reference, SPLINE; from memory): flags 70 (1 closed, 2 periodic, 4
+    /// rational, 8 planar), degree 71, knots 40 (repeated), weights 41 (repeated, rational
+    /// splines), control points 10/20/30, fit points 11/21/31, start and end tangents
+    /// 12/22/32 and 13/23/33, all in world coordinates. The counts 72/73/74 are checked
+    /// against what follows by the curve's own checks. A spline given only by fit points is
+    /// the interpolating curve through them (see [`Nurbs::interpolate`]).
+    fn read_spline(&mut self, at: Location) -> Result<(), ImportError> {
+        let mut c = Common::new(at);
+        let (mut flags, mut degree) = (0i64, 3i64);
+        let (mut knots, mut weights) = (Vec::new(), Vec::new());
+        let (mut ctrl, mut fit): (Vec<[f64; 3]>, Vec<[f64; 3]>) = (Vec::new(), Vec::new());
+        let (mut t_start, mut t_end): (Option<[f64; 3]>, Option<[f64; 3]>) = (None, None);
+        // Coordinates arrive as x, then y, then z of the last point started.
+        fn set(points: &mut [[f64; 3]], k: usize, v: f64) {
+            if let Some(p) = points.last_mut() {
+                p[k] = v;
+            }
+        }
+        while self.field()? {
+            let p = &self.pairs.cur;
+            match p.code {
+                70 => flags = p.int()?,
+                71 => degree = p.int()?,
+                40 => knots.push(p.real()?),
+                41 => weights.push(p.real()?),
+                10 => ctrl.push([p.real()?, 0.0, 0.0]),
+                20 => set(&mut ctrl, 1, p.real()?),
+                30 => set(&mut ctrl, 2, p.real()?),
+                11 => fit.push([p.real()?, 0.0, 0.0]),
+                21 => set(&mut fit, 1, p.real()?),
+                31 => set(&mut fit, 2, p.real()?),
+                12 => t_start = Some([p.real()?, 0.0, 0.0]),
+                22 => t_start.get_or_insert([0.0; 3])[1] = p.real()?,
+                32 => t_start.get_or_insert([0.0; 3])[2] = p.real()?,
+                13 => t_end = Some([p.real()?, 0.0, 0.0]),
+                23 => t_end.get_or_insert([0.0; 3])[1] = p.real()?,
+                33 => t_end.get_or_insert([0.0; 3])[2] = p.real()?,
+                _ => c.take(p, true)?,
+            }
+        }
+        let Some(layer) = self.admit(&c) else {
+            return Ok(());
+        };
+        let all = ctrl
+            .iter()
+            .chain(&fit)
+            .flatten()
+            .chain(&knots)
+            .chain(&weights);
+        if !all.into_iter().all(|v| v.is_finite()) {
+            self.skip_non_finite("SPLINE", at);
+            return Ok(());
+        }
+        // In the drawing plane: every point at one height (to 1e-9 of the spline's size).
+        let pts = if ctrl.is_empty() { &fit } else { &ctrl };
+        let (zmin, zmax) = pts
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
+                (a.min(p[2]), b.max(p[2]))
+            });
+        let size = pts
+            .iter()
+            .fold(crate::geom::BBox::EMPTY, |mut b, p| {
+                b.add_point(Point::new(p[0], p[1]));
+                b
+            })
+            .diagonal();
+        if zmax - zmin > 1e-9 * size.max(f64::MIN_POSITIVE) {
+            self.skip("not in the drawing plane: SPLINE");
+            return Ok(());
+        }
+        let xy = |p: &[f64; 3]| Point::new(p[0], p[1]);
+        let degree = usize::try_from(degree).unwrap_or(0);
+        let rational = flags & 4 != 0 || weights.iter().any(|&w| w != 1.0);
+        let curve = if ctrl.is_empty() {
+            let fit: Vec<Point> = fit.iter().map(xy).collect();
+            Nurbs::interpolate(
+                &fit,
+                degree.max(1),
+                t_start.as_ref().map(xy),
+                t_end.as_ref().map(xy),
+            )
+        } else {
+            let weights = if rational { weights } else { Vec::new() };
+            Nurbs::new(degree, knots, ctrl.iter().map(xy).collect(), weights)
+        };
+        match curve {
+            Ok(nurbs) => {
+                let curve = Curve::Nurbs(nurbs);
+                if flags & 1 != 0 && curve.start().dist(curve.end()) > 1e-9 * size {
+                    self.note_once("open closed spline", || {
+                        format!("SPLINE at {at} is flagged closed but its curve does not end where it starts; read as drawn (further cases not noted)")
+                    });
+                }
+                self.curve(&c, "SPLINE", layer, curve);
+            }
+            Err(why) => {
+                self.skip("SPLINE that is not a valid curve");
+                self.note_once("bad spline", || {
+                    format!("SPLINE at {at} was left out: {why} (further cases only counted)")
+                });
+            }
+        }
         Ok(())
     }
 
@@ -840,9 +1080,6 @@ mod tests {
 
     #[test]
     fn type_reasons() {
-        assert_eq!(type_reason(b"INSERT"), "INSERT (blocks not read yet)");
-        assert_eq!(type_reason(b"SPLINE"), "SPLINE (not read yet)");
-        assert_eq!(type_reason(b"ELLIPSE"), "ELLIPSE (not read yet)");
         assert_eq!(type_reason(b"MTEXT"), "MTEXT");
         assert_eq!(type_reason(b"\xe4"), "ä");
     }

@@ -24,6 +24,7 @@
 //!
 //! [`Segment`]: crate::geom::Segment
 
+mod blocks;
 mod codes;
 mod entities;
 
@@ -48,6 +49,11 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
         skips: HashMap::new(),
         noted: HashSet::new(),
         vertices: Vec::new(),
+        block: None,
+        skipping_block: false,
+        blocks: HashMap::new(),
+        inserts: Vec::new(),
+        block_layer: LayerName::from(""),
     };
     // Capacity hint: about one piece per 192 bytes of a dense drawing, at most 4 Mi pieces.
     // Growing the vector by doubling instead cost a tenth of the reading time on large
@@ -56,6 +62,7 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
     let hint = (bytes.len() / 192).min(1 << 22);
     reader.drawing.pieces.reserve(hint);
     reader.read_file()?;
+    reader.expand_inserts()?;
     Ok(reader.finish())
 }
 
@@ -72,6 +79,16 @@ pub(crate) struct Reader<'a, 'o> {
     noted: HashSet<&'static str>,
     /// Scratch vertex list reused by the polyline readers.
     vertices: Vec<entities::Vertex>,
+    /// The block definition being read, if any: entity readers put what they read there.
+    block: Option<blocks::Block>,
+    /// Inside a model- or paper-space block definition, whose entities are passed over.
+    skipping_block: bool,
+    /// Block definitions by upper-cased name.
+    blocks: HashMap<Vec<u8>, blocks::Block>,
+    /// Model-space INSERTs, expanded once the whole file is read.
+    inserts: Vec<blocks::Insert>,
+    /// Stand-in layer name for entities read inside a block (their own is kept as written).
+    block_layer: LayerName,
 }
 
 /// What to do with entities on a layer.
@@ -319,7 +336,7 @@ impl<'a> Reader<'a, '_> {
             b"HEADER" => self.read_header(),
             b"TABLES" => self.read_tables(),
             b"ENTITIES" => self.read_entities(),
-            // BLOCKS is passed over until blocks are read; its entities are not model space.
+            b"BLOCKS" => self.read_blocks(),
             _ => {
                 let name = decode_text(name_pair.text());
                 self.skip_section(&name)
@@ -471,7 +488,7 @@ impl<'a> Reader<'a, '_> {
         Ok(())
     }
 
-    /// Pieces are pushed here by the entity readers.
+    /// Model-space pieces are pushed here.
     fn push_piece(&mut self, piece: Piece) {
         self.drawing.pieces.push(piece);
     }

@@ -1,0 +1,182 @@
+//! Curves into segments: chords with exact spans, and segments under affine maps.
+//!
+//! A curve (ellipse or spline, [`Curve`]) enters the pipeline as [`CurvePiece`]s: chords
+//! between points of the curve, no farther from it than [`FLATTEN_REL`] of the curve's size,
+//! each naming a [`CurveSpan`] with the curve's exact integrals, length and box over the piece.
+//! Predicates see the chords; the properties see the exact curve.
+
+use super::curve::{Affine, Curve, EllipseArc};
+use super::moments::line_moments;
+use super::segment::{Arc, CurvePiece, CurveSpan, Point, Segment};
+
+/// Largest distance between a curve and its chords, relative to the diagonal of the curve's
+/// box. At 1e-5 a full ellipse takes a few hundred chords; the chords only steer chaining,
+/// crossing and nesting tests (properties are exact), where 1e-5 of a part's size is far
+/// below its wall thicknesses.
+pub const FLATTEN_REL: f64 = 1e-5;
+
+/// The curve as curve pieces, with one span per piece appended to `curves`. A closed curve
+/// (end on start to 1e-12 of its size) ends exactly on its first point. Empty when the
+/// curve has no extent.
+pub fn curve_segments(curve: &Curve, curves: &mut Vec<CurveSpan>) -> Vec<Segment> {
+    let (t0, t1) = curve.domain();
+    let size = curve.bbox_between(t0, t1).diagonal();
+    if !(size.is_finite() && size > 0.0) {
+        return Vec::new();
+    }
+    let closed = curve.start().dist(curve.end()) <= 1e-12 * size;
+    let params = curve.flatten(FLATTEN_REL * size, if closed { 4 } else { 2 });
+    let first = curve.point(params[0]);
+    let mut out = Vec::with_capacity(params.len().saturating_sub(1));
+    let mut a = first;
+    for (k, w) in params.windows(2).enumerate() {
+        let (ta, tb) = (w[0], w[1]);
+        let b = if closed && k + 2 == params.len() {
+            first
+        } else {
+            curve.point(tb)
+        };
+        if a == b {
+            continue;
+        }
+        let at = (a + b) * 0.5;
+        let exact = curve.moments_between(ta, tb, at);
+        curves.push(CurveSpan {
+            at,
+            correction: exact + line_moments(a - at, b - at) * -1.0,
+            length: curve.length_between(ta, tb),
+            bbox: curve.bbox_between(ta, tb),
+        });
+        out.push(Segment::Curve(CurvePiece {
+            a,
+            b,
+            mid: curve.point(0.5 * (ta + tb)),
+            span: (curves.len() - 1) as u32,
+            reversed: false,
+        }));
+        a = b;
+    }
+    out
+}
+
+/// `segments` (lines and arcs) mapped by `f`. Lines stay lines; arcs stay arcs under a
+/// similarity (mirrored ones turn the other way) and become elliptical arcs otherwise, as
+/// curve pieces with their spans appended to `curves`. Curve pieces are not expected here
+/// (curves are mapped as curves, see [`Curve::transformed`]); any met are mapped as chords.
+pub fn transformed_segments(
+    segments: &[Segment],
+    f: &Affine,
+    curves: &mut Vec<CurveSpan>,
+) -> Vec<Segment> {
+    let similar = f.is_similarity();
+    let det = f.det();
+    let scale = det.abs().sqrt();
+    let mut out = Vec::with_capacity(segments.len());
+    for s in segments {
+        match s {
+            Segment::Line { a, b } => out.push(Segment::line(f.apply(*a), f.apply(*b))),
+            Segment::Curve(c) => out.push(Segment::line(f.apply(c.a), f.apply(c.b))),
+            Segment::Arc(arc) if similar => out.push(Segment::Arc(Arc {
+                center: f.apply(arc.center),
+                radius: arc.radius * scale,
+                start: f.apply(arc.start),
+                end: f.apply(arc.end),
+                sweep: arc.sweep * det.signum(),
+            })),
+            Segment::Arc(arc) => {
+                // p(t) = c + r(cos t, sin t) maps to f(c) + f(r·x̂) cos t + f(r·ŷ) sin t.
+                let t0 = arc.start_angle();
+                let ellipse = Curve::Ellipse(EllipseArc {
+                    center: f.apply(arc.center),
+                    u: f.apply_vector(Point::new(arc.radius, 0.0)),
+                    v: f.apply_vector(Point::new(0.0, arc.radius)),
+                    t0,
+                    t1: t0 + arc.sweep,
+                });
+                let mut pieces = curve_segments(&ellipse, curves);
+                // The chords' ends are the curve's points; keep the arc's own mapped ends
+                // so that neighbours in a polyline still meet exactly.
+                if let Some(Segment::Curve(first)) = pieces.first_mut() {
+                    first.a = f.apply(arc.start);
+                }
+                if let Some(Segment::Curve(last)) = pieces.last_mut() {
+                    last.b = f.apply(arc.end);
+                }
+                out.extend(pieces);
+            }
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geom::moments::{loop_moments, Moments};
+    use std::f64::consts::PI;
+
+    fn rel(a: f64, b: f64) -> f64 {
+        (a - b).abs() / b.abs().max(1e-300)
+    }
+
+    /// A full ellipse as curve pieces: area πab, Ixx = πab³/4, Iyy = πa³b/4 about its centre
+    /// (check-values.md §1, ellipse row), length and box from its own spans.
+    #[test]
+    fn an_ellipse_as_curve_pieces_keeps_its_exact_integrals() {
+        let (a, b) = (50.0, 20.0);
+        let c = Point::new(1.0e5, -3.0e4);
+        let e = Curve::Ellipse(EllipseArc {
+            center: c,
+            u: Point::new(a, 0.0),
+            v: Point::new(0.0, b),
+            t0: 0.0,
+            t1: 2.0 * PI,
+        });
+        let mut curves = Vec::new();
+        let segs = curve_segments(&e, &mut curves);
+        assert!(segs.len() >= 100, "{} chords", segs.len());
+        assert_eq!(segs[0].start(), segs[segs.len() - 1].end());
+        let m = loop_moments(&segs, c, &curves);
+        assert!(rel(m.a, PI * a * b) < 1e-12, "{}", m.a);
+        assert!(rel(m.syy, PI * a * b.powi(3) / 4.0) < 1e-12);
+        assert!(rel(m.sxx, PI * a.powi(3) * b / 4.0) < 1e-12);
+        assert!(m.sx.abs() < 1e-9 * a * a * b && m.sxy.abs() < 1e-9 * a.powi(3) * b);
+        // The chords alone fall short by the segments between chord and curve.
+        let chords: Moments = segs
+            .iter()
+            .map(|s| line_moments(s.start() - c, s.end() - c))
+            .fold(Moments::default(), |x, y| x + y);
+        assert!(chords.a < m.a && rel(chords.a, m.a) < 1e-4);
+        // Every chord stays within the flattening tolerance of the curve.
+        let tol = FLATTEN_REL * 2.0 * (a * a + b * b).sqrt();
+        for s in &segs {
+            let Segment::Curve(p) = s else { panic!() };
+            let chord_mid = (p.a + p.b) * 0.5;
+            assert!(chord_mid.dist(p.mid) <= tol * 1.01);
+        }
+    }
+
+    /// A circle under a non-uniform scale is an ellipse: area πr²·sx·sy (the area scales by
+    /// the determinant), and a similarity keeps arcs as arcs.
+    #[test]
+    fn arcs_under_affine_maps() {
+        let r = 10.0;
+        let circle = [Segment::Arc(Arc::circle(Point::new(3.0, 4.0), r))];
+        let f = Affine::scaling(2.0, 0.5).then(&Affine::rotation(0.3));
+        let mut curves = Vec::new();
+        let segs = transformed_segments(&circle, &f, &mut curves);
+        assert!(segs.iter().all(|s| matches!(s, Segment::Curve(_))));
+        let m = loop_moments(&segs, f.apply(Point::new(3.0, 4.0)), &curves);
+        assert!(rel(m.a, PI * r * r * 1.0) < 1e-12, "{}", m.a);
+        // Mirrored similarity: still an arc, turning the other way, same size.
+        let g = Affine::scaling(-1.5, 1.5);
+        let segs = transformed_segments(&circle, &g, &mut curves);
+        let Segment::Arc(arc) = segs[0] else { panic!() };
+        assert!(arc.sweep < 0.0 && rel(arc.radius, 15.0) < 1e-15);
+        // A half-circle polyline edge keeps its mapped end points exactly.
+        let half = Arc::from_bulge(Point::new(0.0, 0.0), Point::new(10.0, 0.0), 1.0).unwrap();
+        let segs = transformed_segments(&[Segment::Arc(half)], &f, &mut curves);
+        assert_eq!(segs[0].start(), f.apply(half.start));
+        assert_eq!(segs[segs.len() - 1].end(), f.apply(half.end));
+    }
+}
