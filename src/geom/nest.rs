@@ -24,6 +24,8 @@ pub struct Profile {
     pub bbox: BBox,
     /// Area integrals of the profile (outer loop less holes) about the centre of `bbox`.
     pub moments: Moments,
+    /// Number of loops around the outer loop (even); its holes lie one deeper.
+    pub depth: usize,
 }
 
 impl Profile {
@@ -675,6 +677,7 @@ pub fn nest(mut loops: Vec<Loop>, tol: f64, problems: &mut Vec<LoopProblem>) -> 
                     holes: Vec::new(),
                     bbox,
                     moments: moments[i],
+                    depth: depth[i],
                 });
             }
         }
