@@ -275,7 +275,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
 /// A warning when a profile's holes lie on other layers than its outer loop: the outer loop
 /// may be a sheet frame or title block drawn around the real profiles, which then count as
 /// its holes. Geometry alone cannot tell; the user can, by choosing layers.
-fn frame_warning(p: &Profile) -> Option<String> {
+pub(crate) fn frame_warning(p: &Profile) -> Option<String> {
     let mut others: Vec<&str> = p
         .holes
         .iter()
