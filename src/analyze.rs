@@ -112,6 +112,20 @@ fn file_row(units: &str, msg: String) -> Vec<Outcome> {
     }]
 }
 
+/// The drawing's geometry (segments and curve spans) turned from `unit` into millimetres.
+pub(crate) fn to_millimetres(drawing: &mut Drawing, unit: LengthUnit) {
+    if unit.mm != 1.0 {
+        for p in &mut drawing.pieces {
+            for s in &mut p.segments {
+                *s = s.scaled(unit.mm);
+            }
+        }
+        for c in &mut drawing.curves {
+            *c = c.scaled(unit.mm);
+        }
+    }
+}
+
 /// Measure a drawing already read (by any reader, or built by hand in tests).
 pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome> {
     let (unit, units_label) = match drawing.units.declared {
@@ -133,16 +147,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         ));
     }
     notes.append(&mut drawing.notes);
-    if unit.mm != 1.0 {
-        for p in &mut drawing.pieces {
-            for s in &mut p.segments {
-                *s = s.scaled(unit.mm);
-            }
-        }
-        for c in &mut drawing.curves {
-            *c = c.scaled(unit.mm);
-        }
-    }
+    to_millimetres(&mut drawing, unit);
     let skipped = summarize_skipped(&drawing.skipped);
     if drawing.pieces.is_empty() {
         let mut msg = "no outline found".to_string();
@@ -279,7 +284,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
 /// A warning when a profile's holes lie on other layers than its outer loop: the outer loop
 /// may be a sheet frame or title block drawn around the real profiles, which then count as
 /// its holes. Geometry alone cannot tell; the user can, by choosing layers.
-fn frame_warning(p: &Profile) -> Option<String> {
+pub(crate) fn frame_warning(p: &Profile) -> Option<String> {
     let mut others: Vec<&str> = p
         .holes
         .iter()

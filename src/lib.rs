@@ -7,10 +7,13 @@
 //! 4. [`report`] turns results into CSV rows;
 //! 5. [`cli`] walks folders, runs files in parallel and writes the output atomically.
 //!
+//! [`explain`] runs steps 1 and 2 on one file and reports what each found, for diagnosis.
+//!
 //! The results are geometric properties of the outline as drawn, not a strength check.
 
 pub mod analyze;
 pub mod cli;
+pub mod explain;
 pub mod geom;
 pub mod import;
 pub mod report;

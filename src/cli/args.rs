@@ -30,6 +30,49 @@ pub enum Command {
     /// Measure every closed profile in DXF files or folders (searched recursively) and write one CSV row per profile.
     #[command(after_help = CONVENTIONS)]
     Measure(MeasureArgs),
+    /// Explain what sectio makes of one DXF file: layers, skipped entities, the join gap, every loop and profile, and every problem, as plain text.
+    #[command(after_help = EXPLAIN_HELP)]
+    Explain(ExplainArgs),
+}
+
+const EXPLAIN_HELP: &str = "\
+Run it on a file whose rows say status=error. The report numbers profiles as measure does
+(without --merge) and gives lengths in millimetres.
+
+Exit status: 0 the file was read and every profile would be measured; 1 the file could not be
+read or has problems (the rows of measure would say error); 2 usage or I/O error (bad option,
+file missing or unreadable).
+
+Safety: the results are geometric properties of the outline as drawn. They are not a strength
+check. Member design follows the applicable code and is signed off by a qualified engineer.";
+
+/// The reading options of `explain`: the same flags, help and defaults as `measure`'s.
+#[derive(Debug, clap::Args)]
+pub struct ExplainArgs {
+    /// The DXF file to explain.
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+
+    /// Unit of drawings that declare none ($INSUNITS missing or 0). Unitless extrusion drawings are almost always millimetres.
+    #[arg(long, value_enum, default_value = "mm", value_name = "UNIT")]
+    pub assume_units: UnitArg,
+
+    /// Only read entities on layers matching GLOB (* and ?, case-insensitive); repeatable.
+    #[arg(long, value_name = "GLOB")]
+    pub layer: Vec<String>,
+
+    /// Skip entities on layers matching GLOB; repeatable.
+    #[arg(long, value_name = "GLOB")]
+    pub exclude_layer: Vec<String>,
+
+    /// Also read layers that are switched off or frozen (skipped by default).
+    #[arg(long)]
+    pub include_hidden_layers: bool,
+
+    /// Largest gap in millimetres closed when chaining loose entities into loops.
+    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. The report shows how it was chosen.
+    #[arg(long, value_name = "MM")]
+    pub gap: Option<f64>,
 }
 
 /// Output and assumed length units.

@@ -4,6 +4,7 @@
 
 pub mod args;
 pub mod batch;
+mod explain;
 
 use std::io::Write;
 use std::path::Path;
@@ -23,7 +24,7 @@ pub const EXIT_SOME_FAILED: i32 = 1;
 /// Exit status: usage or I/O error before any output.
 pub const EXIT_USAGE: i32 = 2;
 
-fn unit(u: UnitArg) -> LengthUnit {
+pub(crate) fn unit(u: UnitArg) -> LengthUnit {
     match u {
         UnitArg::Mm => LengthUnit::MM,
         UnitArg::Cm => LengthUnit::CM,
@@ -36,6 +37,7 @@ fn unit(u: UnitArg) -> LengthUnit {
 pub fn run(cli: Cli) -> anyhow::Result<i32> {
     match cli.command {
         Command::Measure(args) => measure(args),
+        Command::Explain(args) => explain::explain(args),
     }
 }
 
@@ -75,6 +77,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             layers: args.layer.clone(),
             exclude_layers: args.exclude_layer.clone(),
             include_hidden_layers: args.include_hidden_layers,
+            census: false,
         },
         join_gap: args.gap,
         merge: args.merge,

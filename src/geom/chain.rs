@@ -185,8 +185,21 @@ pub struct Chained {
     pub duplicates: usize,
     /// Open chains ignored as stray geometry (centre lines, construction lines).
     pub stray_chains: usize,
+    /// Those chains, for `sectio explain`.
+    pub strays: Vec<StrayChain>,
     /// Segments shorter than `join_gap` dropped.
     pub degenerate: usize,
+}
+
+/// An open chain far from closing, left out as stray geometry.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StrayChain {
+    pub ends: (Point, Point),
+    pub length: f64,
+    pub segments: usize,
+    pub layer: LayerName,
+    /// The entity the chain starts with.
+    pub origin: Origin,
 }
 
 /// A broken loop is an open chain whose ends are closer than this fraction of its length.
@@ -797,7 +810,7 @@ fn classify_open(open: Vec<(Vec<Segment>, usize)>, meta: &[Meta], out: &mut Chai
             }
         }
     }
-    for (info, b) in infos.iter().zip(broken) {
+    for ((info, b), (run, _)) in infos.iter().zip(broken).zip(&open) {
         match b {
             Some((p, q, gap)) => out.problems.push(LoopProblem::OpenChain {
                 gap_at: (p, q),
@@ -807,7 +820,16 @@ fn classify_open(open: Vec<(Vec<Segment>, usize)>, meta: &[Meta], out: &mut Chai
                 origin: meta[info.piece].1,
                 layer: meta[info.piece].0.clone(),
             }),
-            None => out.stray_chains += 1,
+            None => {
+                out.stray_chains += 1;
+                out.strays.push(StrayChain {
+                    ends: (info.p, info.q),
+                    length: info.length,
+                    segments: run.len(),
+                    layer: meta[info.piece].0.clone(),
+                    origin: meta[info.piece].1,
+                });
+            }
         }
     }
 }

@@ -28,6 +28,8 @@ pub struct Profile {
     pub outer_length: f64,
     /// Length of the holes together.
     pub holes_length: f64,
+    /// Number of loops around the outer loop (even); its holes lie one deeper.
+    pub depth: usize,
 }
 
 impl Profile {
@@ -693,6 +695,7 @@ pub fn nest(
                     moments: moments[i],
                     outer_length,
                     holes_length: 0.0,
+                    depth: depth[i],
                 });
             }
         }

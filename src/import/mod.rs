@@ -110,6 +110,35 @@ pub struct Drawing {
     pub skipped: BTreeMap<String, usize>,
     /// Remarks for the user that are not errors.
     pub notes: Vec<String>,
+    /// What the reader learnt about the file itself (format, release, code page; with
+    /// [`ReadOptions::census`] also the LAYER table and entity counts).
+    pub file: FileFacts,
+}
+
+/// Facts about a drawing file beside its geometry, for `sectio explain`.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct FileFacts {
+    /// A binary DXF file (else ASCII).
+    pub binary: bool,
+    /// `$ACADVER` as written, e.g. `AC1015`.
+    pub version: Option<String>,
+    /// `$DWGCODEPAGE` as written, e.g. `ANSI_1252`.
+    pub code_page: Option<String>,
+    /// The encoding that text which is not UTF-8 was read with, e.g. `windows-1252`.
+    pub text_encoding: &'static str,
+    /// The LAYER table in file order (only with [`ReadOptions::census`]).
+    pub layer_table: Vec<LayerState>,
+    /// Model-space entities by (layer as written, entity type), whatever became of them
+    /// (only with [`ReadOptions::census`]).
+    pub entity_counts: BTreeMap<(String, String), usize>,
+}
+
+/// One entry of the LAYER table.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct LayerState {
+    pub name: String,
+    pub off: bool,
+    pub frozen: bool,
 }
 
 impl Drawing {
@@ -127,6 +156,9 @@ pub struct ReadOptions {
     pub exclude_layers: Vec<String>,
     /// Also read entities on layers that are off or frozen.
     pub include_hidden_layers: bool,
+    /// Also keep the LAYER table and count model-space entities by layer and type, in
+    /// [`Drawing::file`] (for `sectio explain`; off when measuring, which does not need them).
+    pub census: bool,
 }
 
 impl ReadOptions {
@@ -230,6 +262,7 @@ mod tests {
             layers: vec!["prof*".into()],
             exclude_layers: vec!["*hidden".into()],
             include_hidden_layers: false,
+            census: false,
         };
         assert!(opts.layer_selected("PROFILE"));
         assert!(!opts.layer_selected("profile-hidden"));

@@ -161,6 +161,7 @@ enum Mode {
 }
 
 /// Streaming reader of group-code pairs over a file held in memory.
+#[derive(Clone)]
 pub(crate) struct Pairs<'a> {
     buf: &'a [u8],
     pos: usize,

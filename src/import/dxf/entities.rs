@@ -287,6 +287,9 @@ impl<'a> Reader<'a, '_> {
     pub(super) fn read_entities(&mut self) -> Result<(), ImportError> {
         loop {
             self.advance_in("ENTITIES")?;
+            if self.opts.census && self.pairs.cur.code == 0 {
+                self.count_entity(); // for `sectio explain` (census.rs)
+            }
             let p = &self.pairs.cur;
             if p.code != 0 {
                 continue; // pairs between the section name and the first entity

@@ -3,7 +3,8 @@
 //! The reader is our own streaming pass over the group-code pairs of the file (tokenizer in
 //! `codes.rs`), for ASCII and binary DXF of any release (R2.6 to 2018 in the test corpus). It
 //! reads:
-//! - HEADER: `$INSUNITS` only (the declared length unit);
+//! - HEADER: `$INSUNITS` (the declared length unit), `$ACADVER` and `$DWGCODEPAGE` (how names
+//!   are encoded, `text.rs`);
 //! - TABLES: the LAYER table (name, frozen flag in group 70 bit 1, off as a negative colour in
 //!   group 62), to leave out entities on hidden layers;
 //! - ENTITIES: LINE, ARC, CIRCLE, LWPOLYLINE and 2-D POLYLINE (with VERTEX/SEQEND) in model
@@ -25,15 +26,19 @@
 //! [`Segment`]: crate::geom::Segment
 
 mod blocks;
+mod census;
 mod codes;
 mod entities;
+mod text;
 
 use std::collections::{HashMap, HashSet};
 
 use super::{
-    Drawing, ImportError, ImportErrorKind, LayerName, LengthUnit, Piece, ReadOptions, SourceUnits,
+    Drawing, ImportError, ImportErrorKind, LayerName, LayerState, LengthUnit, Piece, ReadOptions,
+    SourceUnits,
 };
-use codes::{shown_text, Pair, Pairs};
+use codes::{shown_text, Pair, Pairs, BINARY_SENTINEL};
+use text::TextCoding;
 
 /// Read a DXF file (ASCII or binary) held in memory.
 ///
@@ -54,7 +59,9 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
         blocks: HashMap::new(),
         inserts: Vec::new(),
         block_layer: LayerName::from(""),
+        census: HashMap::new(),
     };
+    reader.drawing.file.binary = bytes.starts_with(BINARY_SENTINEL);
     // Capacity hint: about one piece per 192 bytes of a dense drawing, at most 4 Mi pieces.
     // Growing the vector by doubling instead cost a tenth of the reading time on large
     // files; untouched capacity of a large allocation stays virtual, and `finish` gives
@@ -89,6 +96,8 @@ pub(crate) struct Reader<'a, 'o> {
     inserts: Vec<blocks::Insert>,
     /// Stand-in layer name for entities read inside a block (their own is kept as written).
     block_layer: LayerName,
+    /// Entities by (layer, type) as written, with [`ReadOptions::census`] (`census.rs`).
+    census: HashMap<(&'a [u8], &'a [u8]), usize>,
 }
 
 /// What to do with entities on a layer.
@@ -111,6 +120,8 @@ struct Layers {
     index: HashMap<Vec<u8>, usize>,
     /// The entry found last (entities on one layer tend to come together).
     last: usize,
+    /// How names are decoded (set from the header).
+    coding: TextCoding,
 }
 
 #[derive(Debug)]
@@ -170,7 +181,7 @@ impl Layers {
 
     #[cold]
     fn add_verdict(&mut self, name: &[u8], opts: &ReadOptions) -> usize {
-        let shown = decode_text(name);
+        let shown = self.coding.decode(name);
         let hidden = self
             .hidden
             .get(&shown.to_lowercase())
@@ -202,28 +213,10 @@ impl Layers {
     }
 }
 
-/// Text of a name: UTF-8 when it is valid UTF-8 (R2007 and later write UTF-8), otherwise
-/// Windows-1252, the code page older releases default to (DXF reference, `$DWGCODEPAGE`;
-/// from memory). `\U+XXXX` escapes are kept as written.
+/// Text outside the file's own names (section and entity type names): UTF-8 when it is
+/// valid UTF-8, otherwise Windows-1252 (`text.rs`; layer names follow `$DWGCODEPAGE`).
 pub(crate) fn decode_text(bytes: &[u8]) -> String {
-    match std::str::from_utf8(bytes) {
-        Ok(s) => s.to_owned(),
-        Err(_) => bytes.iter().map(|&b| cp1252(b)).collect(),
-    }
-}
-
-/// One Windows-1252 byte as a character (the 0x80–0x9F block differs from Latin-1; the five
-/// unassigned bytes map to U+FFFD).
-fn cp1252(b: u8) -> char {
-    const HIGH: [char; 32] = [
-        '€', '\u{FFFD}', '‚', 'ƒ', '„', '…', '†', '‡', 'ˆ', '‰', 'Š', '‹', 'Œ', '\u{FFFD}', 'Ž',
-        '\u{FFFD}', '\u{FFFD}', '‘', '’', '“', '”', '•', '–', '—', '˜', '™', 'š', '›', 'œ',
-        '\u{FFFD}', 'ž', 'Ÿ',
-    ];
-    match b {
-        0x80..=0x9f => HIGH[usize::from(b - 0x80)],
-        _ => char::from(b),
-    }
+    TextCoding::default().decode(bytes)
 }
 
 impl<'a> Reader<'a, '_> {
@@ -277,6 +270,10 @@ impl<'a> Reader<'a, '_> {
     }
 
     fn finish(mut self) -> Drawing {
+        self.finish_text();
+        if self.opts.census {
+            self.finish_census();
+        }
         self.layers.flush_skips(&mut self.skips);
         for (reason, n) in self.skips.drain() {
             *self.drawing.skipped.entry(reason).or_insert(0) += n;
@@ -384,6 +381,13 @@ impl<'a> Reader<'a, '_> {
             if self.section_end("HEADER") {
                 return Ok(());
             }
+            if self.pairs.cur.code == 9 {
+                let name = self.pairs.cur.text();
+                if name == b"$ACADVER" || name == b"$DWGCODEPAGE" {
+                    self.read_text_variable(name)?; // text.rs
+                    continue;
+                }
+            }
             if !self.pairs.cur.is(9, b"$INSUNITS") {
                 continue;
             }
@@ -483,8 +487,15 @@ impl<'a> Reader<'a, '_> {
                 _ => {}
             }
         }
-        self.layers
-            .add_layer(decode_text(name), frozen, off, &mut self.skips);
+        let name = self.layers.coding.decode(name);
+        if self.opts.census {
+            self.drawing.file.layer_table.push(LayerState {
+                name: name.clone(),
+                off,
+                frozen,
+            });
+        }
+        self.layers.add_layer(name, frozen, off, &mut self.skips);
         Ok(())
     }
 
