@@ -26,6 +26,7 @@
 
 mod codes;
 mod entities;
+mod hatch;
 
 use std::collections::{HashMap, HashSet};
 
