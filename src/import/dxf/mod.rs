@@ -29,6 +29,7 @@ mod blocks;
 mod census;
 mod codes;
 mod entities;
+mod hatch;
 mod text;
 
 use std::collections::{HashMap, HashSet};
