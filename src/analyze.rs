@@ -1,5 +1,7 @@
 //! One drawing in, one outcome per profile out: the whole pipeline for a single file.
 
+use std::collections::BTreeMap;
+
 use crate::geom::{chain, drop_crossing_loops, nest, BBox, CurvePiece, Profile, Segment};
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{section_props, SectionProps};
@@ -112,6 +114,18 @@ fn file_row(units: &str, msg: String) -> Vec<Outcome> {
     }]
 }
 
+/// For a file without a closed outline: a pointer to `--hatch-outlines` when hatches were
+/// skipped (section drawings often carry the section only as a hatch), else nothing.
+pub(crate) fn hatch_hint(skipped: &BTreeMap<String, usize>) -> String {
+    match skipped.get("HATCH") {
+        Some(n) => format!(
+            "; the file has {n} hatch{}: --hatch-outlines takes outlines from hatch boundaries",
+            if *n == 1 { "" } else { "es" }
+        ),
+        None => String::new(),
+    }
+}
+
 /// The drawing's geometry (segments and curve spans) turned from `unit` into millimetres.
 pub(crate) fn to_millimetres(drawing: &mut Drawing, unit: LengthUnit) {
     if unit.mm != 1.0 {
@@ -149,11 +163,13 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     notes.append(&mut drawing.notes);
     to_millimetres(&mut drawing, unit);
     let skipped = summarize_skipped(&drawing.skipped);
+    let hint = hatch_hint(&drawing.skipped);
     if drawing.pieces.is_empty() {
         let mut msg = "no outline found".to_string();
         if !skipped.is_empty() {
             msg.push_str(&format!("; skipped {skipped}"));
         }
+        msg.push_str(&hint);
         return file_row(&units_label, msg);
     }
     let join_gap = settings.join_gap.unwrap_or_else(|| {
@@ -163,13 +179,20 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let profiles = nest(loops, join_gap, &drawing.curves, &mut problems);
+    let nested = nest(loops, join_gap, &drawing.curves, &mut problems);
+    let profiles = nested.profiles;
 
     if !skipped.is_empty() {
         notes.push(format!("skipped {skipped}"));
     }
     if chained.duplicates > 0 {
         notes.push(format!("{} duplicate entities removed", chained.duplicates));
+    }
+    if nested.duplicate_loops > 0 {
+        notes.push(format!(
+            "{} outlines drawn twice (the same loop again, e.g. as a hatch boundary) counted once",
+            nested.duplicate_loops
+        ));
     }
     if chained.stray_chains > 0 {
         notes.push(format!(
@@ -262,6 +285,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         if !note.is_empty() {
             msg.push_str(&format!("; {note}"));
         }
+        msg.push_str(&hint);
         return file_row(&units_label, msg);
     }
     // Reading order: left to right by the left edge of each box, then bottom to top.

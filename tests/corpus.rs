@@ -226,3 +226,53 @@ fn a_far_away_outline_keeps_its_precision() {
         p.centroid
     );
 }
+
+/// Drawings that carry each section twice, as outline entities and as a hatch: the
+/// hatch's boundary paths alone (with `hatch_outlines`) must measure as the outlines do.
+/// The two are read independently (entity readers against the hatch path parser), so this
+/// checks each against the other.
+#[test]
+fn hatch_boundaries_measure_like_the_outlines_they_fill() {
+    use sectio::analyze::{analyze_drawing, measure_drawing};
+    use sectio::import::{dxf, ReadOptions};
+    let Some(dir) = corpus() else {
+        return;
+    };
+    for (name, profiles) in [
+        ("ac1032_hatches_with_polyline_boundaries.dxf", 10),
+        // Line, arc, elliptic arc and spline edges around the outline drawn beside it.
+        ("ac1024_hatch_mixed_edge_boundary.dxf", 1),
+    ] {
+        let bytes = std::fs::read(dir.join(name)).expect("corpus file");
+        let settings = Settings::default();
+        let outlines = analyze_drawing(&bytes, &settings);
+        let opts = ReadOptions {
+            hatch_outlines: true,
+            ..ReadOptions::default()
+        };
+        let mut d = dxf::read(&bytes, &opts).expect("reads");
+        d.pieces.retain(|p| p.origin.entity == "HATCH");
+        assert!(!d.pieces.is_empty(), "{name}: no hatch pieces");
+        let hatches = measure_drawing(d, &settings);
+        assert_eq!(outlines.len(), profiles, "{name}: {outlines:#?}");
+        assert_eq!(hatches.len(), profiles, "{name}: {hatches:#?}");
+        for (a, b) in outlines.iter().zip(&hatches) {
+            let (p, q) = (
+                a.result.as_ref().expect("ok"),
+                b.result.as_ref().expect("ok"),
+            );
+            let close = |u: f64, v: f64, scale: f64| (u - v).abs() <= 1e-9 * scale;
+            assert!(
+                close(p.area, q.area, p.area),
+                "{name}: {} vs {}",
+                p.area,
+                q.area
+            );
+            assert!(close(p.centroid.x, q.centroid.x, p.bbox.diagonal()));
+            assert!(close(p.centroid.y, q.centroid.y, p.bbox.diagonal()));
+            assert!(close(p.ixx, q.ixx, p.i1) && close(p.iyy, q.iyy, p.i1));
+            assert!(close(p.perimeter, q.perimeter, p.perimeter));
+            assert_eq!(p.n_holes, q.n_holes);
+        }
+    }
+}

@@ -427,3 +427,109 @@ fn an_insert_with_a_downward_extrusion_is_mirrored() {
     close(p.bbox.min.x, -40.0, 1e-12);
     close(p.area, PLATE_AREA, 1e-13);
 }
+
+// ---------------------------------------------------------------------------------------------
+// HATCH
+
+/// A 20 × 10 rectangle with a half circle (r = 10) on its top edge: A = 200 + 50π.
+const DOME_AREA: f64 = 200.0 + 50.0 * PI;
+
+/// The dome as a HATCH with one polyline path (bulge 1 = half circle, DXF reference,
+/// LWPOLYLINE group 42; from memory) and pattern groups after it.
+fn dome_hatch_polyline() -> String {
+    "0\nHATCH\n8\nSECTION\n10\n0\n20\n0\n30\n0\n210\n0\n220\n0\n230\n1\n2\nSOLID\n70\n1\n71\n0\n91\n1\n\
+     92\n2\n72\n1\n73\n1\n93\n4\n10\n0\n20\n0\n42\n0\n10\n20\n20\n0\n42\n0\n10\n20\n20\n10\n42\n1\n10\n0\n20\n10\n42\n0\n97\n0\n\
+     75\n0\n76\n1\n98\n1\n10\n5\n20\n5\n"
+        .to_string()
+}
+
+/// The dome as a HATCH edge path run clockwise: its arc edge has ccw flag 0 and stores the
+/// angles of the mirrored arc (50 = 180, 51 = 0: from 180° clockwise over the top to 0°).
+fn dome_hatch_edges() -> String {
+    "0\nHATCH\n8\nSECTION\n10\n0\n20\n0\n30\n0\n210\n0\n220\n0\n230\n1\n2\nSOLID\n70\n1\n71\n0\n91\n1\n\
+     92\n1\n93\n4\n\
+     72\n1\n10\n0\n20\n0\n11\n0\n21\n10\n\
+     72\n2\n10\n10\n20\n10\n40\n10\n50\n180\n51\n0\n73\n0\n\
+     72\n1\n10\n20\n20\n10\n11\n20\n21\n0\n\
+     72\n1\n10\n20\n20\n0\n11\n0\n21\n0\n97\n0\n75\n0\n76\n1\n98\n0\n"
+        .to_string()
+}
+
+fn with_hatches() -> Settings {
+    Settings {
+        read: ReadOptions {
+            hatch_outlines: true,
+            ..ReadOptions::default()
+        },
+        ..Settings::default()
+    }
+}
+
+#[test]
+fn hatch_boundaries_are_outlines_when_asked() {
+    for hatch in [dome_hatch_polyline(), dome_hatch_edges()] {
+        // By default a hatch is skipped, and the row points to the option.
+        let rows = measure(&dxf("", &hatch));
+        let msg = rows[0].result.as_ref().expect_err("no outline");
+        assert!(msg.contains("--hatch-outlines"), "{msg}");
+        // With it, the boundary is the outline: A = 200 + 50π, centroid on x = 10.
+        let rows = analyze_drawing(dxf("", &hatch).as_bytes(), &with_hatches());
+        assert_eq!(rows.len(), 1, "{rows:#?}");
+        let p = rows[0].result.as_ref().expect("ok");
+        close(p.area, DOME_AREA, 1e-13);
+        close(p.centroid.x, 10.0, 1e-13);
+        close(p.bbox.max.y, 20.0, 1e-13);
+        assert_eq!(rows[0].layer, "SECTION");
+    }
+}
+
+#[test]
+fn a_hatch_in_a_block_and_beside_its_outline() {
+    // In a block placed twice as large: A·4.
+    let b = block("SEC", (0.0, 0.0), &dome_hatch_edges());
+    let rows = analyze_drawing(
+        dxf(&b, &insert("SEC", (0.0, 0.0), (2.0, 2.0), 0.0, "")).as_bytes(),
+        &with_hatches(),
+    );
+    close(
+        rows[0].result.as_ref().expect("ok").area,
+        4.0 * DOME_AREA,
+        1e-13,
+    );
+    // A hatch over the outline it fills (drawn as a polyline too) is the same loop once,
+    // not a profile with itself as its hole.
+    let outline = "0\nLWPOLYLINE\n8\nSECTION\n90\n4\n70\n1\n10\n20\n20\n10\n42\n1\n10\n0\n20\n10\n10\n0\n20\n0\n10\n20\n20\n0\n";
+    let rows = analyze_drawing(
+        dxf("", &(dome_hatch_edges() + outline)).as_bytes(),
+        &with_hatches(),
+    );
+    assert_eq!(rows.len(), 1, "{rows:#?}");
+    let p = rows[0].result.as_ref().expect("ok");
+    close(p.area, DOME_AREA, 1e-13);
+    assert_eq!(p.n_holes, 0);
+    assert!(
+        rows[0].message.contains("1 outlines drawn twice"),
+        "{}",
+        rows[0].message
+    );
+}
+
+#[test]
+fn two_loops_sharing_box_and_area_but_not_their_region_are_both_kept() {
+    // The two triangles of a split square have the same box and area but different
+    // centroids: two profiles, not one drawn twice.
+    let tri = |p: [(f64, f64); 3]| {
+        let mut s = "0\nLWPOLYLINE\n8\n0\n90\n3\n70\n1\n".to_string();
+        for (x, y) in p {
+            s += &format!("10\n{x}\n20\n{y}\n");
+        }
+        s
+    };
+    let t1 = tri([(0.0, 0.0), (10.0, 0.0), (10.0, 10.0)]);
+    let t2 = tri([(0.0, 0.0), (10.0, 10.0), (0.0, 10.0)]);
+    let rows = measure(&dxf("", &(t1 + &t2)));
+    assert_eq!(rows.len(), 2, "{rows:#?}");
+    for r in &rows {
+        close(r.result.as_ref().expect("ok").area, 50.0, 1e-14);
+    }
+}

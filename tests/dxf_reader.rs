@@ -393,6 +393,7 @@ fn selected_layers() {
         layers: vec!["vis*".into(), "off".into(), "DIMS".into()],
         exclude_layers: vec!["dim?".into()],
         include_hidden_layers: false,
+        hatch_outlines: false,
         census: false,
     };
     let d = read(text.as_bytes(), &sel).unwrap();

@@ -69,6 +69,10 @@ pub struct ExplainArgs {
     #[arg(long)]
     pub include_hidden_layers: bool,
 
+    /// Also take outlines from the boundary paths of hatches (section drawings often carry the section only as a hatch). Skipped and counted by default.
+    #[arg(long)]
+    pub hatch_outlines: bool,
+
     /// Largest gap in millimetres closed when chaining loose entities into loops.
     /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. The report shows how it was chosen.
     #[arg(long, value_name = "MM")]
@@ -113,6 +117,10 @@ pub struct MeasureArgs {
     /// Also read layers that are switched off or frozen (skipped by default).
     #[arg(long)]
     pub include_hidden_layers: bool,
+
+    /// Also take outlines from the boundary paths of hatches (section drawings often carry the section only as a hatch). Skipped and counted by default.
+    #[arg(long)]
+    pub hatch_outlines: bool,
 
     /// Largest gap in millimetres closed when chaining loose entities into loops.
     /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. Larger gaps are reported, never closed silently.

@@ -32,6 +32,7 @@ pub(super) fn explain(args: ExplainArgs) -> anyhow::Result<i32> {
             layers: args.layer,
             exclude_layers: args.exclude_layer,
             include_hidden_layers: args.include_hidden_layers,
+            hatch_outlines: args.hatch_outlines,
             census: true,
         },
         join_gap: args.gap,

@@ -77,6 +77,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             layers: args.layer.clone(),
             exclude_layers: args.exclude_layer.clone(),
             include_hidden_layers: args.include_hidden_layers,
+            hatch_outlines: args.hatch_outlines,
             census: false,
         },
         join_gap: args.gap,

@@ -48,6 +48,8 @@ pub struct Details {
     /// `None` when no piece was read (nothing to chain).
     pub gap: Option<GapChoice>,
     pub duplicates: usize,
+    /// Loops dropped as the same outline drawn again (see [`crate::geom::nest::Nested`]).
+    pub duplicate_loops: usize,
     /// Segments shorter than the gap left out.
     pub degenerate: usize,
     /// Closed loops kept for nesting, numbered in row order.
@@ -206,6 +208,7 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
     };
     crate::analyze::to_millimetres(&mut drawing, units.unit);
     let layers = layer_lines(&drawing.file, &options);
+    let hint = crate::analyze::hatch_hint(&drawing.skipped);
     let mut skipped: Vec<(String, usize)> = drawing.skipped.into_iter().collect();
     skipped.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
     let closed = drawing.pieces.iter().filter(|p| p.closed).count();
@@ -220,6 +223,7 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
         pieces,
         gap: None,
         duplicates: 0,
+        duplicate_loops: 0,
         degenerate: 0,
         loops: Vec::new(),
         rows: Vec::new(),
@@ -227,7 +231,7 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
         strays: Vec::new(),
     };
     if drawing.pieces.is_empty() {
-        d.rows.push(file_row("no outline found"));
+        d.rows.push(file_row(&format!("no outline found{hint}")));
         return d;
     }
     // The gap, the chaining, the crossing check and the nesting, as in `measure_drawing`.
@@ -246,7 +250,9 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let profiles = nest(loops, join_gap, &drawing.curves, &mut problems);
+    let nested = nest(loops, join_gap, &drawing.curves, &mut problems);
+    let profiles = nested.profiles;
+    d.duplicate_loops = nested.duplicate_loops;
     d.duplicates = chained.duplicates;
     d.degenerate = chained.degenerate;
     d.strays = chained.strays;
@@ -334,7 +340,8 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
         }
     }
     if d.rows.is_empty() {
-        d.rows.push(file_row("no closed outline found"));
+        d.rows
+            .push(file_row(&format!("no closed outline found{hint}")));
     }
     d
 }

@@ -272,6 +272,11 @@ fn write_chaining(w: &mut dyn Write, d: &Details) -> io::Result<()> {
         writeln!(w, "  {} duplicate entities removed", d.duplicates)?;
         writeln!(
             w,
+            "  {} loops dropped as the same outline drawn again",
+            d.duplicate_loops
+        )?;
+        writeln!(
+            w,
             "  {} segments shorter than the gap left out",
             d.degenerate
         )?;

@@ -18,5 +18,5 @@ pub mod segment;
 
 pub use chain::{chain, Chained, Loop, LoopProblem};
 pub use moments::Moments;
-pub use nest::{drop_crossing_loops, nest, Profile};
+pub use nest::{drop_crossing_loops, nest, Nested, Profile};
 pub use segment::{Arc, BBox, CurvePiece, CurveSpan, Point, Segment};

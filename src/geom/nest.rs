@@ -546,9 +546,24 @@ fn is_tangent(s1: &super::Segment, s2: &super::Segment, at: Point, tol: f64) -> 
     side(before) * side(after) > 0.0
 }
 
+/// Profiles found by [`nest`], and how many loops were the same outline drawn again.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Nested {
+    pub profiles: Vec<Profile>,
+    /// Loops dropped because another loop encloses the same region (an outline drawn twice,
+    /// e.g. as a polyline and again as loose lines or as a hatch boundary).
+    pub duplicate_loops: usize,
+}
+
 /// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]),
 /// but may touch; `tol` is the distance within which a point counts as on a loop.
 /// Loops with no area become problems.
+///
+/// A loop whose container encloses the same region (boxes within `tol` on every side,
+/// centroids within `tol`, areas within `tol` times twice the box's half-perimeter or 1e-9 of
+/// the area) is the same outline drawn twice: it is dropped and counted, not made a hole.
+/// Loops that do not cross and share their box, centroid and area can only differ by slivers
+/// thinner than the tolerance.
 ///
 /// Whether a loop lies inside another is decided at a point of the loop that is clear of the
 /// other (loops that touch along an edge share points, where inside and outside is a matter
@@ -559,7 +574,7 @@ pub fn nest(
     tol: f64,
     curves: &[CurveSpan],
     problems: &mut Vec<LoopProblem>,
-) -> Vec<Profile> {
+) -> Nested {
     /// Points of a loop tried, at most, to find one clear of a candidate container.
     const PROBES: usize = 8;
     // Area integrals about each loop's own box centre, for precision far from the origin;
@@ -620,6 +635,24 @@ pub fn nest(
     let mut slabs: Vec<Option<SlabIndex>> = (0..loops.len()).map(|_| None).collect();
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
+    let mut duplicate = vec![false; loops.len()];
+    // Whether loops i and j enclose the same region (see the doc above).
+    let same_region = |i: usize, j: usize| {
+        let (bi, bj) = (info[i].1, info[j].1);
+        let near = |a: f64, b: f64| (a - b).abs() <= tol;
+        let same_box = near(bi.min.x, bj.min.x)
+            && near(bi.min.y, bj.min.y)
+            && near(bi.max.x, bj.max.x)
+            && near(bi.max.y, bj.max.y);
+        if !same_box {
+            return false;
+        }
+        let (ai, aj) = (info[i].0, info[j].0);
+        let slack = (2.0 * tol * (bi.width() + bi.height())).max(1e-9 * ai);
+        let ci = bi.center() + Point::new(moments[i].sx / ai, moments[i].sy / ai);
+        let cj = bj.center() + Point::new(moments[j].sx / aj, moments[j].sy / aj);
+        (ai - aj).abs() <= slack && ci.dist(cj) <= tol
+    };
     for &i in &order {
         // Points of the loop: midpoints of segments spread along it, the first one first when
         // run counter-clockwise.
@@ -639,11 +672,15 @@ pub fn nest(
         let mut best: Option<usize> = None;
         for &j in candidates(first_probe) {
             let j = j as usize;
-            if j == i || rank[j] > rank[i] || !info[j].1.contains_box(&bb, 0.0) {
+            if j == i || rank[j] > rank[i] || duplicate[j] || !info[j].1.contains_box(&bb, tol) {
                 continue;
             }
             if best.is_some_and(|b| rank[b] > rank[j]) {
                 continue; // already found a smaller container
+            }
+            if same_region(i, j) {
+                duplicate[i] = true;
+                break;
             }
             let container = &loops[j].segments;
             // A long loop asked about many times (a plate with many holes) gets an index;
@@ -669,6 +706,9 @@ pub fn nest(
                 best = Some(j);
             }
         }
+        if duplicate[i] {
+            continue;
+        }
         if let Some(p) = best {
             parent[i] = Some(p);
             depth[i] = depth[p] + 1;
@@ -679,7 +719,7 @@ pub fn nest(
     let mut slots: Vec<Option<Loop>> = loops.into_iter().map(Some).collect();
     let mut profiles: Vec<Profile> = Vec::new();
     for &i in &order {
-        if depth[i] % 2 == 0 {
+        if depth[i] % 2 == 0 && !duplicate[i] {
             // `slots[i]` is taken exactly once, here or as a hole below.
             if let Some(mut outer) = slots[i].take() {
                 if !drawn_ccw[i] {
@@ -717,7 +757,10 @@ pub fn nest(
             }
         }
     }
-    profiles
+    Nested {
+        profiles,
+        duplicate_loops: duplicate.iter().filter(|&&d| d).count(),
+    }
 }
 
 /// A uniform grid over boxes: each cell lists the boxes that cover it.

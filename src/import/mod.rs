@@ -156,6 +156,9 @@ pub struct ReadOptions {
     pub exclude_layers: Vec<String>,
     /// Also read entities on layers that are off or frozen.
     pub include_hidden_layers: bool,
+    /// Take outlines from the boundary paths of HATCH entities too (skipped and counted
+    /// otherwise).
+    pub hatch_outlines: bool,
     /// Also keep the LAYER table and count model-space entities by layer and type, in
     /// [`Drawing::file`] (for `sectio explain`; off when measuring, which does not need them).
     pub census: bool,
@@ -262,6 +265,7 @@ mod tests {
             layers: vec!["prof*".into()],
             exclude_layers: vec!["*hidden".into()],
             include_hidden_layers: false,
+            hatch_outlines: false,
             census: false,
         };
         assert!(opts.layer_selected("PROFILE"));

@@ -15,11 +15,12 @@
 use std::borrow::Cow;
 
 use super::blocks::Item;
-use super::codes::Pair;
+use super::codes::{Pair, Value};
+use super::hatch::{parse_hatch, HatchBoundary, HatchEdge, HatchPath};
 use super::{decode_text, Reader, Verdict};
 use crate::geom::curve::{Affine, Curve, EllipseArc, Nurbs};
-use crate::geom::curve_pieces::curve_segments;
-use crate::geom::{Arc, Point, Segment};
+use crate::geom::curve_pieces::{curve_segments, transformed_segments};
+use crate::geom::{Arc, CurveSpan, Point, Segment};
 use crate::import::{Handle, ImportError, LayerName, Location, Origin, Piece};
 
 /// Skip-reason texts used in more than one place.
@@ -319,6 +320,7 @@ impl<'a> Reader<'a, '_> {
             b"ELLIPSE" => self.read_ellipse(at),
             b"SPLINE" => self.read_spline(at),
             b"INSERT" | b"MINSERT" => self.read_insert(at),
+            b"HATCH" if self.opts.hatch_outlines => self.read_hatch(at),
             ty => {
                 let ty = ty.to_vec();
                 self.skip_fields()?;
@@ -709,6 +711,67 @@ impl<'a> Reader<'a, '_> {
         Ok(())
     }
 
+    /// HATCH, with `--hatch-outlines`: every boundary path becomes pieces in the drawing
+    /// plane (the hatch is an OCS entity at its elevation). Polyline paths keep their bulges;
+    /// edge paths give lines, arcs, elliptical arcs and splines, chained like loose entities.
+    /// The boundary groups are parsed by `hatch.rs`; a path that cannot be read leaves the
+    /// hatch out with a note.
+    ///
+    /// Clockwise edges (ccw flag 73 = 0) store the angles of the mirrored counter-clockwise
+    /// edge: a clockwise arc starts at −50° and runs clockwise to −51° (found in the corpus:
+    /// every such path closes this way and none closes as written; see `hatch.rs`). Elliptic
+    /// edges are taken the same way, with 50/51 as parameters in degrees.
+    fn read_hatch(&mut self, at: Location) -> Result<(), ImportError> {
+        let mut c = Common::new(at);
+        let mut owned: Vec<(i32, Vec<u8>)> = Vec::new();
+        while self.field()? {
+            let p = self.pairs.cur;
+            c.take(&p, true)?;
+            owned.push((p.code, hatch_text(&p)));
+        }
+        let Some(layer) = self.admit(&c) else {
+            return Ok(());
+        };
+        let pairs: Vec<(i32, &[u8])> = owned.iter().map(|(k, v)| (*k, v.as_slice())).collect();
+        let hatch = match parse_hatch(&pairs) {
+            Ok(h) => h,
+            Err(why) => {
+                self.skip("HATCH whose boundary cannot be read");
+                self.note_once("bad hatch", || {
+                    format!("HATCH at {at} was left out: {why} (further cases only counted)")
+                });
+                return Ok(());
+            }
+        };
+        let Some(plane) = self.plane_at(hatch.normal, "HATCH", at) else {
+            return Ok(());
+        };
+        let f = plane.affine(hatch.elevation);
+        for path in &hatch.paths {
+            match hatch_path(path, &f, &mut self.drawing.curves) {
+                Ok(parts) => {
+                    for part in parts {
+                        match part {
+                            PathPart::Segments(segments, closed) => {
+                                self.piece(&c, "HATCH", layer.clone(), segments, closed)
+                            }
+                            PathPart::Curve(curve) => {
+                                self.curve(&c, "HATCH", layer.clone(), curve.transformed(&f))
+                            }
+                        }
+                    }
+                }
+                Err(why) => {
+                    self.skip("HATCH boundary path that is not a valid curve");
+                    self.note_once("bad hatch path", || {
+                        format!("a boundary path of the HATCH at {at} was left out: {why} (further cases only counted)")
+                    });
+                }
+            }
+        }
+        Ok(())
+    }
+
     /// LWPOLYLINE: flags 70 (bit 1 = closed), elevation 38, vertices 10/20 each optionally
     /// followed by a bulge 42 (DXF reference, LWPOLYLINE). Widths (40/41/43) and vertex ids
     /// (91) are not needed.
@@ -925,6 +988,163 @@ fn polyline_segments(vertices: &[Vertex], closed: bool, plane: &Plane, z: f64) -
         a = b;
     }
     segments
+}
+
+/// The value of a HATCH pair as text for `hatch.rs` (numbers of binary files formatted;
+/// `{:?}` prints the shortest text that reads back to the same double).
+fn hatch_text(p: &Pair<'_>) -> Vec<u8> {
+    match p.value {
+        Value::Real(v) => format!("{v:?}").into_bytes(),
+        Value::Int(v) => v.to_string().into_bytes(),
+        _ => p.text().to_vec(),
+    }
+}
+
+/// A piece of a hatch boundary path: lines and arcs (in the drawing plane already, closed
+/// when the path is a closed polyline), or a curve still in the hatch's OCS.
+enum PathPart {
+    Segments(Vec<Segment>, bool),
+    Curve(Curve),
+}
+
+/// One boundary path as [`PathPart`]s; `f` maps the hatch's OCS onto the drawing plane.
+fn hatch_path(
+    path: &HatchPath,
+    f: &Affine,
+    curves: &mut Vec<CurveSpan>,
+) -> Result<Vec<PathPart>, String> {
+    let p = |(x, y): (f64, f64)| Point::new(x, y);
+    let mut parts = Vec::new();
+    match &path.edges {
+        HatchBoundary::Polyline { vertices, closed } => {
+            let vertices: Vec<Vertex> = vertices
+                .iter()
+                .map(|&(x, y, bulge)| Vertex {
+                    x,
+                    y,
+                    bulge,
+                    has_y: true,
+                })
+                .collect();
+            // Bulges in the OCS, mapped with the arcs they make.
+            let ocs = polyline_segments(&vertices, *closed, &Plane::Identity, 0.0);
+            if !ocs.is_empty() {
+                parts.push(PathPart::Segments(
+                    transformed_segments(&ocs, f, curves),
+                    *closed,
+                ));
+            }
+        }
+        HatchBoundary::Edges(edges) => {
+            let mut run: Vec<Segment> = Vec::new();
+            for edge in edges {
+                match edge {
+                    HatchEdge::Line { a, b } => {
+                        if a != b {
+                            run.push(Segment::line(p(*a), p(*b)));
+                        }
+                    }
+                    HatchEdge::Arc {
+                        center,
+                        radius,
+                        start_deg,
+                        end_deg,
+                        ccw,
+                    } => {
+                        if *radius <= 0.0 {
+                            return Err(format!("an arc edge with radius {radius}"));
+                        }
+                        let sweep = arc_sweep_deg(*start_deg, *end_deg).to_radians();
+                        let arc = if *ccw {
+                            Arc::from_center(p(*center), *radius, start_deg.to_radians(), sweep)
+                        } else {
+                            Arc::from_center(p(*center), *radius, (-start_deg).to_radians(), -sweep)
+                        };
+                        run.push(Segment::Arc(arc));
+                    }
+                    HatchEdge::Ellipse {
+                        center,
+                        major,
+                        ratio,
+                        start_deg,
+                        end_deg,
+                        ccw,
+                    } => {
+                        let u = p(*major);
+                        if *ratio <= 0.0 || u.norm() == 0.0 {
+                            return Err("an elliptic edge with a zero axis".into());
+                        }
+                        let sweep = arc_sweep_deg(*start_deg, *end_deg).to_radians();
+                        let (t0, t1) = if *ccw {
+                            (start_deg.to_radians(), start_deg.to_radians() + sweep)
+                        } else {
+                            ((-start_deg).to_radians(), (-start_deg).to_radians() - sweep)
+                        };
+                        flush(&mut run, &mut parts, f, curves);
+                        parts.push(PathPart::Curve(Curve::Ellipse(EllipseArc {
+                            center: p(*center),
+                            u,
+                            v: Point::new(-u.y, u.x) * *ratio,
+                            t0,
+                            t1,
+                        })));
+                    }
+                    HatchEdge::Spline {
+                        degree,
+                        knots,
+                        ctrl,
+                        weights,
+                        fit,
+                        start_tangent,
+                        end_tangent,
+                        ..
+                    } => {
+                        let nurbs = if ctrl.is_empty() {
+                            let fit: Vec<Point> = fit.iter().map(|&q| p(q)).collect();
+                            Nurbs::interpolate(
+                                &fit,
+                                (*degree).max(1),
+                                start_tangent.map(p),
+                                end_tangent.map(p),
+                            )?
+                        } else {
+                            let w = if weights.iter().any(|&w| w != 1.0) {
+                                weights.clone()
+                            } else {
+                                Vec::new()
+                            };
+                            Nurbs::new(
+                                *degree,
+                                knots.clone(),
+                                ctrl.iter().map(|&q| p(q)).collect(),
+                                w,
+                            )?
+                        };
+                        flush(&mut run, &mut parts, f, curves);
+                        parts.push(PathPart::Curve(Curve::Nurbs(nurbs)));
+                    }
+                }
+            }
+            flush(&mut run, &mut parts, f, curves);
+        }
+    }
+    Ok(parts)
+}
+
+/// The lines and arcs gathered so far as one open part, mapped onto the drawing plane.
+fn flush(
+    run: &mut Vec<Segment>,
+    parts: &mut Vec<PathPart>,
+    f: &Affine,
+    curves: &mut Vec<CurveSpan>,
+) {
+    if !run.is_empty() {
+        parts.push(PathPart::Segments(
+            transformed_segments(run, f, curves),
+            false,
+        ));
+        run.clear();
+    }
 }
 
 #[cfg(test)]

@@ -67,9 +67,6 @@
 //! Counts that run past the pairs, or that disagree with what follows, non-numbers and
 //! non-finite numbers are errors. Nothing panics on any input.
 
-// The entity reader calls `parse_hatch` in a change of its own; until then only the tests do.
-#![allow(dead_code)]
-
 use std::fmt::Write as _;
 
 /// Boundary data of one HATCH entity.
