@@ -533,3 +533,42 @@ fn two_loops_sharing_box_and_area_but_not_their_region_are_both_kept() {
         close(r.result.as_ref().expect("ok").area, 50.0, 1e-14);
     }
 }
+
+#[test]
+fn a_periodic_spline_stored_with_one_knot_per_span_is_closed() {
+    // Flags 1 | 2 (closed, periodic), degree 3, four control points of a square and five
+    // knots 0..4 (as some writers store periodic splines). Reference: the uniform periodic
+    // cubic B-spline evaluated span by span with its basis matrix (each span uses four
+    // consecutive control points, cyclically; Piegl and Tiller, The NURBS Book, from memory),
+    // area by the shoelace formula over 40 000 points (error below 1e-7 relative).
+    let ctrl = [(10.0, -10.0), (10.0, 10.0), (-10.0, 10.0), (-10.0, -10.0)];
+    let p = only_ok(&dxf(
+        "",
+        &spline(3, 1 | 2, &[0.0, 1.0, 2.0, 3.0, 4.0], &ctrl, &[]),
+    ));
+    let point = |i: usize, t: f64| {
+        let b = [
+            (1.0 - t).powi(3) / 6.0,
+            (3.0 * t.powi(3) - 6.0 * t * t + 4.0) / 6.0,
+            (-3.0 * t.powi(3) + 3.0 * t * t + 3.0 * t + 1.0) / 6.0,
+            t.powi(3) / 6.0,
+        ];
+        (0..4).fold((0.0, 0.0), |(x, y), k| {
+            let c = ctrl[(i + k) % 4];
+            (x + b[k] * c.0, y + b[k] * c.1)
+        })
+    };
+    let pts: Vec<(f64, f64)> = (0..4)
+        .flat_map(|i| (0..10_000).map(move |k| (i, k as f64 / 10_000.0)))
+        .map(|(i, t)| point(i, t))
+        .collect();
+    let shoelace: f64 = (0..pts.len())
+        .map(|k| {
+            let (a, b) = (pts[k], pts[(k + 1) % pts.len()]);
+            a.0 * b.1 - b.0 * a.1
+        })
+        .sum::<f64>()
+        / 2.0;
+    close(p.area, shoelace.abs(), 1e-7);
+    assert!(p.centroid.x.abs() < 1e-9 && p.centroid.y.abs() < 1e-9);
+}

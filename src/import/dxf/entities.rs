@@ -688,8 +688,13 @@ impl<'a> Reader<'a, '_> {
                 t_end.as_ref().map(xy),
             )
         } else {
-            let weights = if rational { weights } else { Vec::new() };
-            Nurbs::new(degree, knots, ctrl.iter().map(xy).collect(), weights)
+            let mut weights = if rational { weights } else { Vec::new() };
+            let mut ctrl: Vec<Point> = ctrl.iter().map(xy).collect();
+            let mut knots = knots;
+            if flags & 2 != 0 && knots.len() == ctrl.len() + 1 {
+                (ctrl, weights, knots) = unwrap_periodic(degree, ctrl, weights, &knots);
+            }
+            Nurbs::new(degree, knots, ctrl, weights)
         };
         match curve {
             Ok(nurbs) => {
@@ -988,6 +993,41 @@ fn polyline_segments(vertices: &[Vertex], closed: bool, plane: &Plane, z: f64) -
         a = b;
     }
     segments
+}
+
+/// A periodic spline stored as its n distinct control points with one knot per span and
+/// the closing one (n + 1 knots, period T = last − first), as some writers store them, turned
+/// into the equivalent unclamped B-spline: the first `degree` control points (and weights)
+/// repeated after the last, and the knots continued periodically on both sides,
+/// t_j = k((j − p) mod n) + ⌊(j − p)/n⌋·T for j = 0 … n + 2p. The curve over [k_0, k_0 + T]
+/// is then the closed periodic one (standard construction of periodic B-splines; Piegl and
+/// Tiller, The NURBS Book, ch. 12, from memory).
+fn unwrap_periodic(
+    degree: usize,
+    mut ctrl: Vec<Point>,
+    mut weights: Vec<f64>,
+    period_knots: &[f64],
+) -> (Vec<Point>, Vec<f64>, Vec<f64>) {
+    let n = ctrl.len();
+    if n == 0 || degree == 0 || degree > n {
+        return (ctrl, weights, period_knots.to_vec());
+    }
+    let period = period_knots[n] - period_knots[0];
+    for i in 0..degree {
+        ctrl.push(ctrl[i]);
+        if weights.len() >= n {
+            weights.push(weights[i]);
+        }
+    }
+    let knot = |m: i64| {
+        let n = n as i64;
+        period_knots[m.rem_euclid(n) as usize] + m.div_euclid(n) as f64 * period
+    };
+    let p = degree as i64;
+    let knots = (0..(n + 2 * degree + 1) as i64)
+        .map(|j| knot(j - p))
+        .collect();
+    (ctrl, weights, knots)
 }
 
 /// The value of a HATCH pair as text for `hatch.rs` (numbers of binary files formatted;
