@@ -572,3 +572,81 @@ fn a_periodic_spline_stored_with_one_knot_per_span_is_closed() {
     close(p.area, shoelace.abs(), 1e-7);
     assert!(p.centroid.x.abs() < 1e-9 && p.centroid.y.abs() < 1e-9);
 }
+
+/// Every value of these drawings replaced by awkward numbers, and every line dropped in turn:
+/// the pipeline gives rows (or a read error), never a panic or a hang.
+#[test]
+fn mutated_curve_block_and_hatch_drawings_never_panic() {
+    use std::panic::{catch_unwind, AssertUnwindSafe};
+    let w = std::f64::consts::FRAC_1_SQRT_2;
+    let sources = [
+        dxf("", &ellipse((1.0, 2.0), (30.0, 5.0), 0.5, (0.3, 2.0), -1.0)),
+        dxf(
+            "",
+            &spline(
+                2,
+                1 | 4,
+                &[0.0, 0.0, 0.0, 0.5, 0.5, 1.0, 1.0, 1.0],
+                &[(1.0, 0.0), (1.0, 1.0), (0.0, 1.0), (-1.0, 1.0), (-1.0, 0.0)],
+                &[1.0, w, 1.0, w, 1.0],
+            ),
+        ),
+        dxf(
+            "",
+            &spline(
+                3,
+                3,
+                &[0.0, 1.0, 2.0, 3.0, 4.0],
+                &[(1.0, 0.0), (0.0, 1.0), (-1.0, 0.0), (0.0, -1.0)],
+                &[],
+            ),
+        ),
+        dxf(
+            &(plate_block("PLATE")
+                + &block(
+                    "G",
+                    (0.0, 0.0),
+                    &insert("PLATE", (0.0, 0.0), (1.0, 1.0), 0.0, ""),
+                )),
+            &insert(
+                "G",
+                (5.0, 5.0),
+                (2.0, -1.0),
+                30.0,
+                "70\n2\n71\n2\n44\n50\n45\n50\n",
+            ),
+        ),
+        dxf("", &(dome_hatch_edges() + &dome_hatch_polyline())),
+    ];
+    let awkward = ["0", "-1", "1e300", "nan", "99999999", "x"];
+    let mut runs = 0;
+    for (k, text) in sources.iter().enumerate() {
+        // Hatches (the last drawing) are read with the option, the others as by default.
+        let settings = if k + 1 == sources.len() {
+            with_hatches()
+        } else {
+            Settings::default()
+        };
+        let lines: Vec<&str> = text.lines().collect();
+        let mut variants: Vec<String> = Vec::new();
+        for i in (1..lines.len()).step_by(2) {
+            for a in awkward {
+                let mut v = lines.clone();
+                v[i] = a;
+                variants.push(v.join("\n") + "\n");
+            }
+            let mut v = lines.clone();
+            v.drain(i - 1..=i);
+            variants.push(v.join("\n") + "\n");
+        }
+        for v in variants {
+            let r = catch_unwind(AssertUnwindSafe(|| {
+                analyze_drawing(v.as_bytes(), &settings)
+            }));
+            assert!(r.is_ok(), "panic on:\n{v}");
+            assert!(!r.unwrap().is_empty());
+            runs += 1;
+        }
+    }
+    assert!(runs > 800, "{runs}");
+}

@@ -457,7 +457,7 @@ fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
 /// baseline x86-64 target).
 fn floor_i64(v: f64) -> i64 {
     let t = v as i64;
-    t - i64::from((t as f64) > v)
+    t.wrapping_sub(i64::from((t as f64) > v))
 }
 
 /// End of a cell's list of nodes.
@@ -564,7 +564,7 @@ impl Nodes {
         let mut best: Option<(f64, u32)> = None;
         for &dx in dxs {
             for &dy in dys {
-                let mut id = self.grid.get((cx + dx, cy + dy));
+                let mut id = self.grid.get((cx.wrapping_add(dx), cy.wrapping_add(dy)));
                 while id != NONE {
                     let v = self.pos[id as usize] - p;
                     let d2 = v.dot(v);

@@ -289,10 +289,14 @@ impl EllipseArc {
         for theta in [self.v.x.atan2(self.u.x), self.v.y.atan2(self.u.y)] {
             let k0 = ((lo - theta) / PI).ceil();
             let k1 = ((hi - theta) / PI).floor();
-            let mut k = k0;
-            while k <= k1 && k - k0 < 4.0 {
+            // At most four extremes (a full turn); counted by an integer, as `k + 1.0` no
+            // longer moves past 2^53 (parameters that large come only from broken files).
+            for j in 0..4 {
+                let k = k0 + f64::from(j);
+                if k.partial_cmp(&k1).is_none_or(|o| o.is_gt()) {
+                    break;
+                }
                 b.add_point(self.local_point(theta + k * PI, self.center));
-                k += 1.0;
             }
         }
         b
@@ -1085,8 +1089,10 @@ fn gauss<const N: usize>(
 }
 
 /// Adaptive bisection: accepts the two halves when their sum agrees with `whole` within
-/// `tol` in every component, else recurses with half the tolerance on each (at most 40
-/// levels deep).
+/// `tol` in every component (or within rounding of the values themselves, 1e-15 of their
+/// size, which no further split can improve), else recurses with half the tolerance on each.
+/// At most [`ADAPTIVE_SPLITS`] splits per call in all, so that no integrand, however
+/// awkward, can make it run long: past that the halves are taken as they are.
 fn adaptive<const N: usize>(
     f: &mut impl FnMut(f64) -> [f64; N],
     a: f64,
@@ -1096,6 +1102,24 @@ fn adaptive<const N: usize>(
     whole: [f64; N],
     depth: u32,
 ) -> [f64; N] {
+    let mut budget = ADAPTIVE_SPLITS;
+    adaptive_within(f, a, b, rule, tol, whole, depth, &mut budget)
+}
+
+/// Most interval splits one [`adaptive`] call makes.
+const ADAPTIVE_SPLITS: u32 = 4096;
+
+#[allow(clippy::too_many_arguments)]
+fn adaptive_within<const N: usize>(
+    f: &mut impl FnMut(f64) -> [f64; N],
+    a: f64,
+    b: f64,
+    rule: &Rule,
+    tol: [f64; N],
+    whole: [f64; N],
+    depth: u32,
+    budget: &mut u32,
+) -> [f64; N] {
     let mid = 0.5 * (a + b);
     let left = gauss(f, a, mid, rule);
     let right = gauss(f, mid, b, rule);
@@ -1103,14 +1127,16 @@ fn adaptive<const N: usize>(
     let mut ok = true;
     for i in 0..N {
         sum[i] = left[i] + right[i];
-        ok &= (sum[i] - whole[i]).abs() <= tol[i];
+        let rounding = 1e-15 * (left[i].abs() + right[i].abs());
+        ok &= (sum[i] - whole[i]).abs() <= tol[i].max(rounding);
     }
-    if ok || depth >= 40 || !(mid > a && mid < b) {
+    if ok || depth >= 40 || *budget == 0 || !(mid > a && mid < b) {
         return sum;
     }
+    *budget -= 1;
     let half = tol.map(|t| 0.5 * t);
-    let l = adaptive(f, a, mid, rule, half, left, depth + 1);
-    let r = adaptive(f, mid, b, rule, half, right, depth + 1);
+    let l = adaptive_within(f, a, mid, rule, half, left, depth + 1, budget);
+    let r = adaptive_within(f, mid, b, rule, half, right, depth + 1, budget);
     let mut out = [0.0; N];
     for i in 0..N {
         out[i] = l[i] + r[i];

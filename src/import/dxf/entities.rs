@@ -594,6 +594,7 @@ impl<'a> Reader<'a, '_> {
             n[2] * major[0] - n[0] * major[2],
         ) * ratio;
         let sweep = arc_sweep_deg(t0.to_degrees(), t1.to_degrees()).to_radians();
+        let t0 = t0.rem_euclid(std::f64::consts::TAU);
         let ellipse = EllipseArc {
             center: Point::new(center[0], center[1]),
             u,
