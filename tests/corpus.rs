@@ -126,6 +126,25 @@ fn every_corpus_drawing_yields_rows_and_nothing_panics() {
         }
     }
     assert!(mismatches.is_empty(), "{}", mismatches.join("\n"));
+    // With hatches and hidden layers read too, every file still yields rows, each error
+    // with its reason, and nothing panics.
+    let everything = Settings {
+        read: sectio::import::ReadOptions {
+            hatch_outlines: true,
+            include_hidden_layers: true,
+            ..Default::default()
+        },
+        ..Settings::default()
+    };
+    for path in &files {
+        let rows = measure_file(path, &everything);
+        assert!(!rows.is_empty(), "{}: no row", path.display());
+        for r in &rows {
+            if let Err(msg) = &r.outcome.result {
+                assert!(!msg.is_empty() && !msg.contains("internal error"), "{msg}");
+            }
+        }
+    }
 }
 
 #[test]
