@@ -105,7 +105,9 @@ fn rows_are_numbered_as_measure_numbers_them() {
             compared += 1;
         }
     }
-    assert!(compared >= 2 * 20);
+    // The fixtures and demo sheets alone give 2 × 17 readable drawings (the corpus, when it
+    // is beside the repository, adds more).
+    assert!(compared >= 2 * 17, "{compared}");
 }
 
 #[test]
