@@ -32,10 +32,11 @@
 //! This module does no I/O. All lengths are millimetres.
 
 use crate::geom::curve::{Affine, Curve};
-use crate::geom::moments::arc_moments;
-use crate::geom::segment::wrap_tau;
+use crate::geom::moments::{line_moments, unit_segment_integrals};
+use crate::geom::segment::{rotated, wrap_tau};
 use crate::geom::{Arc, CurveTable, Point, Profile, Segment};
 use crate::section::SectionProps;
+use std::f64::consts::PI;
 
 /// Plastic properties of a section for bending about axes parallel to x, to y, and to the two
 /// principal axes, each through its own plastic neutral axis.
@@ -73,21 +74,20 @@ pub struct PlasticAxis {
 }
 
 /// A boundary piece in the frame; curve pieces run from `t0` to `t1` on `curves[curve]`.
+/// `ymin`, `ymax` bound the piece and `whole` holds its integrals G (see [`line_g`]).
 #[derive(Debug, Clone, Copy)]
-enum Part {
+struct Part {
+    kind: Kind,
+    ymin: f64,
+    ymax: f64,
+    whole: [f64; 3],
+}
+
+#[derive(Debug, Clone, Copy)]
+enum Kind {
     Line(Point, Point),
-    Arc {
-        arc: Arc,
-        ymin: f64,
-        ymax: f64,
-    },
-    Curve {
-        curve: usize,
-        t0: f64,
-        t1: f64,
-        ymin: f64,
-        ymax: f64,
-    },
+    Arc(Arc),
+    Curve { curve: usize, t0: f64, t1: f64 },
 }
 
 /// A section's boundary moved into a frame where one bending axis is horizontal: every point
@@ -141,9 +141,12 @@ impl Frame {
                 let part = match s {
                     Segment::Line { a, b } => {
                         let (a, b) = (f.apply(*a), f.apply(*b));
-                        ymin = ymin.min(a.y.min(b.y));
-                        ymax = ymax.max(a.y.max(b.y));
-                        Part::Line(a, b)
+                        Part {
+                            kind: Kind::Line(a, b),
+                            ymin: a.y.min(b.y),
+                            ymax: a.y.max(b.y),
+                            whole: line_g(a, b),
+                        }
                     }
                     Segment::Arc(arc) => {
                         let arc = Arc {
@@ -153,12 +156,11 @@ impl Frame {
                             ..*arc
                         };
                         let b = arc.bbox();
-                        ymin = ymin.min(b.min.y);
-                        ymax = ymax.max(b.max.y);
-                        Part::Arc {
-                            arc,
+                        Part {
+                            kind: Kind::Arc(arc),
                             ymin: b.min.y,
                             ymax: b.max.y,
+                            whole: arc_g(&arc),
                         }
                     }
                     Segment::Curve(c) => {
@@ -187,22 +189,21 @@ impl Frame {
                             lo = lo.min(y);
                             hi = hi.max(y);
                         }
-                        ymin = ymin.min(lo);
-                        ymax = ymax.max(hi);
                         let (t0, t1) = if c.reversed {
                             (span.tb, span.ta)
                         } else {
                             (span.ta, span.tb)
                         };
-                        Part::Curve {
-                            curve: idx,
-                            t0,
-                            t1,
+                        Part {
+                            kind: Kind::Curve { curve: idx, t0, t1 },
                             ymin: lo,
                             ymax: hi,
+                            whole: curve_g(&curves[idx], t0, t1),
                         }
                     }
                 };
+                ymin = ymin.min(part.ymin);
+                ymax = ymax.max(part.ymax);
                 parts.push(part);
             }
         }
@@ -217,52 +218,33 @@ impl Frame {
     /// (A_above, S_above): the area of the section above the line y = c and its first moment
     /// about that line, ∬_{y>c} (y − c) dA (see the module doc).
     pub fn above(&self, c: f64) -> (f64, f64) {
-        let o = Point::new(0.0, c);
         let (mut a, mut s) = (0.0, 0.0);
+        let mut add = |[g1, g2, dx]: [f64; 3]| {
+            // ∫ −(y − c) dx = G1 + c·Δx and ∫ −(y − c)²/2 dx = G2 − c·G1 − c²·Δx/2.
+            a += g1 + c * dx;
+            s += g2 - c * g1 - 0.5 * c * c * dx;
+        };
         for part in &self.parts {
-            match *part {
-                Part::Line(p, q) => {
-                    let Some((p, q)) = clip_line(p, q, c) else {
-                        continue;
-                    };
-                    let (p, q) = (p - o, q - o);
-                    let cross = p.cross(q);
-                    a += 0.5 * cross;
-                    s += cross * (p.y + q.y) / 6.0;
+            if part.ymax <= c {
+                continue;
+            }
+            if part.ymin >= c {
+                add(part.whole);
+                continue;
+            }
+            match part.kind {
+                Kind::Line(p, q) => {
+                    if let Some((p, q)) = clip_line(p, q, c) {
+                        add(line_g(p, q));
+                    }
                 }
-                Part::Arc { arc, ymin, ymax } => {
-                    if ymax <= c {
-                        continue;
-                    }
-                    if ymin >= c {
-                        let m = arc_moments(&arc, o);
-                        a += m.a;
-                        s += m.sy;
-                        continue;
-                    }
+                Kind::Arc(arc) => {
                     for sub in arc_above(&arc, c) {
-                        let m = arc_moments(&sub, o);
-                        a += m.a;
-                        s += m.sy;
+                        add(arc_g(&sub));
                     }
                 }
-                Part::Curve {
-                    curve,
-                    t0,
-                    t1,
-                    ymin,
-                    ymax,
-                } => {
-                    if ymax <= c {
-                        continue;
-                    }
+                Kind::Curve { curve, t0, t1 } => {
                     let curve = &self.curves[curve];
-                    if ymin >= c {
-                        let m = curve.moments_between(t0, t1, o);
-                        a += m.a;
-                        s += m.sy;
-                        continue;
-                    }
                     let mut ts = curve.level_crossings(t0, t1, c);
                     if t1 < t0 {
                         ts.reverse();
@@ -270,9 +252,7 @@ impl Frame {
                     let mut from = t0;
                     for to in ts.into_iter().chain(std::iter::once(t1)) {
                         if curve.point(0.5 * (from + to)).y >= c {
-                            let m = curve.moments_between(from, to, o);
-                            a += m.a;
-                            s += m.sy;
+                            add(curve_g(curve, from, to));
                         }
                         from = to;
                     }
@@ -313,6 +293,60 @@ impl Frame {
             area_beyond: a_above,
         })
     }
+}
+
+/// The boundary integrals G = [∫ −y dx, ∫ −y²/2 dx, ∫ dx] of the line p→q, in the frame.
+///
+/// Green's theorem in the form ∬ f dA = ∮ −F dx with ∂F/∂y = f (counter-clockwise
+/// boundary): f = 1 gives ∮ −y dx, f = y − c gives ∮ −(y − c)²/2 dx; both vanish along the
+/// line y = c, so the part above needs only the boundary above. Along a line y is linear in
+/// x: ∫ y dx = Δx·(y_p + y_q)/2 and ∫ y² dx = Δx·(y_p² + y_p·y_q + y_q²)/3.
+fn line_g(p: Point, q: Point) -> [f64; 3] {
+    let dx = q.x - p.x;
+    [
+        -dx * 0.5 * (p.y + q.y),
+        -dx * (p.y * p.y + p.y * q.y + q.y * q.y) / 6.0,
+        dx,
+    ]
+}
+
+/// [`line_g`] of a circular arc: its chord, plus the circular segment between chord and arc
+/// (∮ −y dx = ∬ dA and ∮ −y²/2 dx = ∬ y dA around it), signed by the arc's direction, with
+/// the segment's integrals from [`unit_segment_integrals`] as in `arc_moments`. A full circle
+/// gives its disk: ∬ dA = πr², ∬ y dA = πr²·c_y.
+fn arc_g(arc: &Arc) -> [f64; 3] {
+    let sign = arc.sweep.signum();
+    let r = arc.radius;
+    if arc.is_full_circle() {
+        let a = PI * r * r;
+        return [sign * a, sign * a * arc.center.y, 0.0];
+    }
+    let (p, q) = (arc.start, arc.end);
+    let alpha = arc.sweep.abs() / 2.0;
+    // Unit vector from the chord towards the arc (as in `arc_moments`).
+    let ev = if alpha <= PI / 2.0 {
+        let chord = q - p;
+        let d = chord * (1.0 / chord.norm());
+        Point::new(d.y, -d.x) * sign
+    } else {
+        rotated(arc.start - arc.center, arc.sweep / 2.0) * (1.0 / r)
+    };
+    let [ua, uv1, _, _] = unit_segment_integrals(alpha);
+    let area = ua * r * r;
+    let first = 0.5 * (p.y + q.y) * area + ev.y * uv1 * r * r * r;
+    let [g1, g2, dx] = line_g(p, q);
+    [g1 + sign * area, g2 + sign * first, dx]
+}
+
+/// [`line_g`] of a curve from t0 to t1: its chord, plus the region between chord and curve,
+/// whose ∬ dA and ∬ y dA are the curve's cone-form integrals less the chord's
+/// (`Curve::moments_between`, `line_moments`).
+fn curve_g(curve: &Curve, t0: f64, t1: f64) -> [f64; 3] {
+    let (p, q) = (curve.point(t0), curve.point(t1));
+    let m = curve.moments_between(t0, t1, Point::default());
+    let l = line_moments(p, q);
+    let [g1, g2, dx] = line_g(p, q);
+    [g1 + (m.a - l.a), g2 + (m.sy - l.sy), dx]
 }
 
 /// The part of the line p→q with y ≥ c, in the same direction; the crossing by
