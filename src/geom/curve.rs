@@ -1164,11 +1164,11 @@ impl EllipseArc {
     /// t = φ ± acos((c − c_y)/R) + 2πn. A line that only touches (|c − c_y| ≥ R) gives none.
     fn level_crossings(&self, lo: f64, hi: f64, c: f64, out: &mut Vec<f64>) {
         let r = self.u.y.hypot(self.v.y);
-        if !(r > 0.0) {
+        if r.is_nan() || r == 0.0 {
             return;
         }
         let k = (c - self.center.y) / r;
-        if !(k.abs() < 1.0) {
+        if k.is_nan() || k.abs() >= 1.0 {
             return;
         }
         let phi = self.v.y.atan2(self.u.y);

@@ -102,18 +102,20 @@ pub struct Frame {
 
 /// The map p -> R(−angle)·(p − reference); quarter turns are exact (no sin/cos rounding).
 fn frame_map(reference: Point, angle_deg: f64) -> Affine {
-    let turn = match angle_deg {
-        a if a == 0.0 => Affine::IDENTITY,
-        a if a == 90.0 => Affine {
-            m: [0.0, 1.0, -1.0, 0.0],
-            t: Point::default(),
-        },
-        a if a == -90.0 => Affine {
-            m: [0.0, -1.0, 1.0, 0.0],
-            t: Point::default(),
-        },
-        a if a == 180.0 || a == -180.0 => Affine::scaling(-1.0, -1.0),
-        a => Affine::rotation(-a.to_radians()),
+    let quarter = |m: [f64; 4]| Affine {
+        m,
+        t: Point::default(),
+    };
+    let turn = if angle_deg == 0.0 {
+        Affine::IDENTITY
+    } else if angle_deg == 90.0 {
+        quarter([0.0, 1.0, -1.0, 0.0])
+    } else if angle_deg == -90.0 {
+        quarter([0.0, -1.0, 1.0, 0.0])
+    } else if angle_deg.abs() == 180.0 {
+        Affine::scaling(-1.0, -1.0)
+    } else {
+        Affine::rotation(-angle_deg.to_radians())
     };
     Affine::translation(-reference).then(&turn)
 }
@@ -271,7 +273,7 @@ impl Frame {
             return Err("plastic neutral axis: the section has no height".into());
         }
         let (area, s_lo) = self.above(lo);
-        if !(area > 0.0) {
+        if area.is_nan() || area <= 0.0 {
             return Err("plastic neutral axis: the section has no area".into());
         }
         let half = 0.5 * area;
@@ -529,4 +531,59 @@ pub fn plastic_props(
         plastic_1,
         plastic_2,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn brent_finds_roots_of_smooth_and_flat_functions() {
+        // x³ − 2 has its root at 2^(1/3) (arithmetic).
+        let f = |x: f64| x * x * x - 2.0;
+        let r = brent(&f, 0.0, 2.0, f(0.0), f(2.0), 1e-15);
+        assert!((r - 2f64.cbrt()).abs() < 1e-14, "{r}");
+        // A function flat at zero over [1, 2] (two parts apart): any point there will do.
+        let g = |x: f64| (1.0 - x).max(0.0) - (x - 2.0).max(0.0);
+        let r = brent(&g, -5.0, 7.0, g(-5.0), g(7.0), 1e-13);
+        assert!((1.0..=2.0).contains(&r), "{r}");
+    }
+
+    /// The parts of a circle above a line: a full circle split in two, one touching the line,
+    /// and a clockwise arc; the pieces add up to the segment of the disk above the line
+    /// (circular segment area r²(α − sin α cos α) for half-angle α, from memory; the same
+    /// closed form as `unit_segment_integrals`).
+    #[test]
+    fn arcs_split_at_the_line() {
+        let r = 2.0;
+        let circle = Arc::circle(Point::new(1.0, 0.5), r);
+        let c = 1.5; // 1 above the centre: cos α = 1/2.
+        let parts = arc_above(&circle, c);
+        assert_eq!(parts.len(), 1);
+        let g = arc_g(&parts[0]);
+        let chord = line_g(parts[0].end, parts[0].start);
+        let alpha = (0.5f64).acos();
+        let want = r * r * (alpha - alpha.sin() * alpha.cos());
+        assert!((g[0] + chord[0] - want).abs() < 1e-14 * r * r);
+        // Tangent from below: nothing, or everything.
+        assert!(arc_above(&circle, 2.5).is_empty());
+        assert_eq!(arc_above(&circle, -1.5).len(), 1);
+        // Clockwise half circle from the right: the part above runs from the start.
+        let half = Arc::from_center(Point::new(0.0, 0.0), 1.0, 0.0, -PI);
+        let parts = arc_above(&half, -0.5);
+        assert_eq!(parts.len(), 2);
+        assert_eq!(parts[0].start, half.start);
+        assert_eq!(parts[1].end, half.end);
+        assert!(parts.iter().all(|a| a.sweep < 0.0));
+    }
+
+    /// The exact frame map turns by quarter turns without rounding.
+    #[test]
+    fn quarter_turns_are_exact() {
+        let q = Point::new(3.25, -7.5);
+        let f = frame_map(Point::new(1.0, 2.0), -90.0);
+        assert_eq!(f.apply(q), Point::new(9.5, 2.25));
+        let f = frame_map(Point::new(1.0, 2.0), 90.0);
+        assert_eq!(f.apply(q), Point::new(-9.5, -2.25));
+    }
 }
