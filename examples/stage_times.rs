@@ -54,7 +54,7 @@ fn main() {
         let mut problems = c.problems;
         let loops = drop_crossing_loops(c.loops, gap, &mut problems);
         let t4 = Instant::now();
-        let profiles = nest(loops, gap, &d.curves, &mut problems).profiles;
+        let profiles = nest(loops, gap, &d.curves.spans, &mut problems).profiles;
         let t5 = Instant::now();
         for p in &profiles {
             area += section_props(&[p]).area;

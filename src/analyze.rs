@@ -4,7 +4,7 @@ use std::collections::BTreeMap;
 
 use crate::geom::{chain, drop_crossing_loops, nest, BBox, CurvePiece, Profile, Segment};
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
-use crate::section::{section_props, SectionProps};
+use crate::section::{plastic_props, section_props, SectionProps};
 
 /// Settings that shape how a drawing is read and measured.
 #[derive(Debug, Clone)]
@@ -16,6 +16,8 @@ pub struct Settings {
     pub merge: bool,
     /// Unit of drawings that declare none.
     pub assume_units: LengthUnit,
+    /// Also compute the plastic properties ([`crate::section::plastic`]).
+    pub plastic: bool,
 }
 
 impl Default for Settings {
@@ -25,6 +27,7 @@ impl Default for Settings {
             join_gap: None,
             merge: false,
             assume_units: LengthUnit::MM,
+            plastic: false,
         }
     }
 }
@@ -134,9 +137,7 @@ pub(crate) fn to_millimetres(drawing: &mut Drawing, unit: LengthUnit) {
                 *s = s.scaled(unit.mm);
             }
         }
-        for c in &mut drawing.curves {
-            *c = c.scaled(unit.mm);
-        }
+        drawing.curves.scale(unit.mm);
     }
 }
 
@@ -179,7 +180,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let nested = nest(loops, join_gap, &drawing.curves, &mut problems);
+    let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
     let profiles = nested.profiles;
 
     if !skipped.is_empty() {
@@ -227,6 +228,20 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         }
         msgs
     };
+    // Elastic properties, and plastic ones when asked for; a failure of the latter (never
+    // expected) leaves their columns empty and says why in the message.
+    let curve_table = &drawing.curves;
+    let measure = |ps: &[&Profile]| -> (SectionProps, Option<String>) {
+        let mut props = section_props(ps);
+        let mut failed = None;
+        if settings.plastic {
+            match plastic_props(ps, curve_table, &props) {
+                Ok(p) => props.plastic = Some(p),
+                Err(e) => failed = Some(e),
+            }
+        }
+        (props, failed)
+    };
     let make = |layer: &str, result: Result<SectionProps, String>| Outcome {
         profile: 0,
         layer: layer.to_string(),
@@ -243,25 +258,38 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         let bbox = all.iter().fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
         let msgs = blocked(&bbox, &mut used_problem);
         let layers = joined_layers(&all);
+        let mut failed = None;
         let result = if msgs.is_empty() {
-            Ok(section_props(&all))
+            let (props, f) = measure(&all);
+            failed = f;
+            Ok(props)
         } else {
             Err(format!("not measured: {}", msgs.join("; ")))
         };
+        let mut outcome = make(&layers, result);
+        if let Some(f) = failed {
+            outcome.message = join_notes(&f, &outcome.message);
+        }
         items.push(Item {
             key: (bbox.min.x, bbox.min.y),
-            outcome: make(&layers, result),
+            outcome,
         });
     } else {
         for p in &profiles {
             let bbox = p.bbox();
             let msgs = blocked(&bbox, &mut used_problem);
+            let mut failed = None;
             let result = if msgs.is_empty() {
-                Ok(section_props(&[p]))
+                let (props, f) = measure(&[p]);
+                failed = f;
+                Ok(props)
             } else {
                 Err(format!("not measured: {}", msgs.join("; ")))
             };
             let mut outcome = make(&p.outer.layer, result);
+            if let Some(f) = failed {
+                outcome.message = join_notes(&f, &outcome.message);
+            }
             if let Some(warning) = frame_warning(p) {
                 outcome.message = join_notes(&warning, &outcome.message);
             }
@@ -419,8 +447,9 @@ mod tests {
     /// the origin, so the span table's scaling and the corrections' signs are exercised.
     #[test]
     fn curve_pieces_measure_exactly_through_the_pipeline() {
+        use crate::geom::curve::{Curve, EllipseArc};
         use crate::geom::moments::{arc_moments, line_moments};
-        use crate::geom::{Arc, CurvePiece, CurveSpan};
+        use crate::geom::{Arc, CurvePiece, CurveSpan, CurveTable};
         use crate::import::{LengthUnit, SourceUnits};
         use std::f64::consts::PI;
         let origin = Origin {
@@ -433,11 +462,22 @@ mod tests {
         for flip in [false, true] {
             let (c, r_out, r_in) = (Point::new(4000.0, -2500.0), 3.0, 2.0);
             let mut curves: Vec<CurveSpan> = Vec::new();
+            let mut shapes: Vec<Curve> = Vec::new();
             let mut pieces: Vec<Piece> = Vec::new();
             for (r, n) in [(r_out, 12), (r_in, 7)] {
+                shapes.push(Curve::Ellipse(EllipseArc {
+                    center: c,
+                    u: Point::new(r, 0.0),
+                    v: Point::new(0.0, r),
+                    t0: 0.0,
+                    t1: 2.0 * PI,
+                }));
                 for k in 0..n {
-                    let arc =
-                        Arc::from_center(c, r, 2.0 * PI * k as f64 / n as f64, 2.0 * PI / n as f64);
+                    let (ta, tb) = (
+                        2.0 * PI * k as f64 / n as f64,
+                        2.0 * PI * (k + 1) as f64 / n as f64,
+                    );
+                    let arc = Arc::from_center(c, r, ta, 2.0 * PI / n as f64);
                     let at = (arc.start + arc.end) * 0.5;
                     let chord = line_moments(arc.start - at, arc.end - at);
                     curves.push(CurveSpan {
@@ -445,6 +485,9 @@ mod tests {
                         correction: arc_moments(&arc, at) + chord * -1.0,
                         length: arc.length(),
                         bbox: arc.bbox(),
+                        curve: (shapes.len() - 1) as u32,
+                        ta,
+                        tb,
                     });
                     let seg = Segment::Curve(CurvePiece {
                         a: arc.start,
@@ -472,7 +515,10 @@ mod tests {
                     code: Some(5),
                 },
                 pieces,
-                curves,
+                curves: CurveTable {
+                    spans: curves,
+                    curves: shapes,
+                },
                 ..Drawing::default()
             };
             let out = measure_drawing(drawing, &Settings::default());

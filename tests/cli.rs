@@ -406,3 +406,48 @@ fn help_states_conventions_and_the_safety_caution() {
     assert!(text.contains("not a strength"), "{text}");
     assert!(text.contains("qualified engineer"), "{text}");
 }
+
+#[test]
+fn all_adds_the_plastic_columns_with_their_units() {
+    let (code, header, rows, stderr) = measure(&[&path("dxf/tube.dxf")]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(!header.iter().any(|h| h.starts_with("plastic")));
+    let (code, header, rows_all, stderr) = measure(&[&path("dxf/tube.dxf"), "--all"]);
+    assert_eq!(code, 0, "{stderr}");
+    // The core columns keep their order; the plastic tier follows them.
+    let core = header.len() - 8;
+    assert_eq!(
+        &header[core..],
+        [
+            "pna_x_mm",
+            "pna_y_mm",
+            "plastic_x_mm3",
+            "plastic_y_mm3",
+            "shape_x",
+            "shape_y",
+            "plastic_1_mm3",
+            "plastic_2_mm3"
+        ]
+    );
+    assert_eq!(rows[0].s("ixx_mm4"), rows_all[0].s("ixx_mm4"));
+    let r = &rows_all[0];
+    // Hollow circle D = 50, d = 44: Wpl = (D³ − d³)/6 (Roark Table A.1; check-values §1).
+    let wpl = (50.0f64.powi(3) - 44.0f64.powi(3)) / 6.0;
+    assert_close!(r.f("plastic_x_mm3"), wpl, rel = CSV_REL);
+    assert_close!(r.f("plastic_y_mm3"), wpl, rel = CSV_REL);
+    assert_close!(r.f("plastic_1_mm3"), wpl, rel = CSV_REL);
+    assert_close!(r.f("shape_x"), wpl / r.f("wx_top_mm3"), rel = CSV_REL);
+    assert_close!(r.f("pna_x_mm"), 0.0, abs = 1e-9);
+    // --plastic alone gives the same columns; --units in turns mm3 into in3 (25.4 mm/in).
+    let (_, header_p, _, _) = measure(&[&path("dxf/tube.dxf"), "--plastic"]);
+    assert_eq!(header_p, header);
+    let (_, header_in, rows_in, _) = measure(&[&path("dxf/tube.dxf"), "--all", "--units", "in"]);
+    assert!(header_in.iter().any(|h| h == "plastic_x_in3"));
+    assert!(header_in.iter().any(|h| h == "pna_y_in"));
+    assert_close!(
+        rows_in[0].f("plastic_x_in3"),
+        wpl / 25.4f64.powi(3),
+        rel = CSV_REL
+    );
+    assert_close!(rows_in[0].f("shape_y"), r.f("shape_y"), rel = CSV_REL);
+}

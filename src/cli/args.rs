@@ -131,6 +131,14 @@ pub struct MeasureArgs {
     #[arg(long)]
     pub merge: bool,
 
+    /// Also compute the plastic properties: plastic neutral axes parallel to x and y (pna_x, pna_y: offsets from the centroid, positive up and right), plastic section moduli about them and about the principal axes (plastic_x, plastic_y, plastic_1, plastic_2) and shape factors (shape_x, shape_y). Exact, no flattening; columns added after the others.
+    #[arg(long)]
+    pub plastic: bool,
+
+    /// Compute every optional tier of properties (today: --plastic; later tiers will join it). Their columns come after the core ones, in a fixed order.
+    #[arg(long)]
+    pub all: bool,
+
     /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1); steel is 7850.
     #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
     pub density: f64,

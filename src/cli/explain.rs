@@ -38,6 +38,7 @@ pub(super) fn explain(args: ExplainArgs) -> anyhow::Result<i32> {
         join_gap: args.gap,
         merge: false,
         assume_units: unit(args.assume_units),
+        plastic: false,
     };
     let explanation = explain_drawing(&bytes, &settings);
     let stdout = std::io::stdout();

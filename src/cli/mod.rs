@@ -14,7 +14,7 @@ use anyhow::{bail, Context};
 
 use crate::analyze::Settings;
 use crate::import::{LengthUnit, ReadOptions};
-use crate::report::{csv_header, csv_records, CsvFormat};
+use crate::report::{csv_header, csv_records, CsvFormat, Tiers};
 use args::{Cli, Command, MeasureArgs, UnitArg};
 
 /// Exit status: every profile measured.
@@ -72,6 +72,13 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     if files.is_empty() {
         bail!("no .dxf files found in the given paths");
     }
+    let tiers = if args.all {
+        Tiers::ALL
+    } else {
+        Tiers {
+            plastic: args.plastic,
+        }
+    };
     let settings = Settings {
         read: ReadOptions {
             layers: args.layer.clone(),
@@ -83,12 +90,14 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         join_gap: args.gap,
         merge: args.merge,
         assume_units: unit(args.assume_units),
+        plastic: tiers.plastic,
     };
     let format = CsvFormat {
         unit: unit(args.units),
         delimiter,
         decimal_comma: args.decimal_comma,
         density_kg_m3: args.density,
+        tiers,
     };
     let batch = batch::run_batch(&files, &settings, args.jobs, |rows| {
         csv_records(rows, &format)

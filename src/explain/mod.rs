@@ -250,7 +250,7 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let nested = nest(loops, join_gap, &drawing.curves, &mut problems);
+    let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
     let profiles = nested.profiles;
     d.duplicate_loops = nested.duplicate_loops;
     d.duplicates = chained.duplicates;
@@ -302,7 +302,7 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
                 {
                     let number = d.loops.len() + 1;
                     d.loops
-                        .push(loop_line(l, number, row, depth, &drawing.curves));
+                        .push(loop_line(l, number, row, depth, &drawing.curves.spans));
                     numbers.push(number);
                 }
                 let error = (!blocking.is_empty()).then(|| {

@@ -1156,6 +1156,142 @@ fn to_moments(v: [f64; 6]) -> Moments {
 }
 
 // ---------------------------------------------------------------------------------------
+// Where a curve crosses a horizontal line
+
+impl EllipseArc {
+    /// Parameters in (lo, hi) where y(t) = c, in closed form: y(t) = c_y + u_y·cos t +
+    /// v_y·sin t = c_y + R·cos(t − φ) with R = √(u_y² + v_y²), φ = atan2(v_y, u_y), so
+    /// t = φ ± acos((c − c_y)/R) + 2πn. A line that only touches (|c − c_y| ≥ R) gives none.
+    fn level_crossings(&self, lo: f64, hi: f64, c: f64, out: &mut Vec<f64>) {
+        let r = self.u.y.hypot(self.v.y);
+        if r.is_nan() || r == 0.0 {
+            return;
+        }
+        let k = (c - self.center.y) / r;
+        if k.is_nan() || k.abs() >= 1.0 {
+            return;
+        }
+        let phi = self.v.y.atan2(self.u.y);
+        let d = k.acos();
+        for base in [phi + d, phi - d] {
+            // The range spans at most a few turns; start one turn below it.
+            let mut t = base + TAU * ((lo - base) / TAU).floor();
+            for _ in 0..8 {
+                if t > lo && t < hi {
+                    out.push(t);
+                }
+                t += TAU;
+                if t >= hi {
+                    break;
+                }
+            }
+        }
+    }
+}
+
+impl Nurbs {
+    /// Parameters in (lo, hi) where y(t) − c changes sign. On each span the Bézier control
+    /// points of a piece bound it (positive weights), and the number of sign changes of their
+    /// y − c bounds the number of crossings (variation diminishing property of the Bernstein
+    /// basis, also for rational pieces with positive weights: the numerator's coefficients
+    /// are w_i·(y_i − c); common practice). Pieces with no sign change hold no crossing;
+    /// pieces with one whose ends have opposite signs hold exactly one, found by bracketing;
+    /// others are halved (at most 60 times, after which a sign change at the ends counts as
+    /// one crossing at the middle).
+    fn level_crossings(&self, lo: f64, hi: f64, c: f64, out: &mut Vec<f64>) {
+        let o = Point::new(0.0, c);
+        for (k, a, b) in self.pieces(lo, hi) {
+            let g = |t: f64| self.eval_span(k, t, o).0.y;
+            let mut stack = vec![(a, b, 0u32)];
+            while let Some((a, b, depth)) = stack.pop() {
+                let bz = self.bezier(k, a, b, o);
+                let mut changes = 0;
+                let mut last = 0.0f64;
+                for q in &bz {
+                    if q.y != 0.0 {
+                        if last != 0.0 && (q.y > 0.0) != (last > 0.0) {
+                            changes += 1;
+                        }
+                        last = q.y;
+                    }
+                }
+                if changes == 0 {
+                    continue;
+                }
+                let (ga, gb) = (g(a), g(b));
+                let opposite = (ga < 0.0 && gb > 0.0) || (ga > 0.0 && gb < 0.0);
+                let mid = 0.5 * (a + b);
+                if changes == 1 && opposite {
+                    out.push(bracketed_root(&g, a, b, ga, gb));
+                } else if depth >= 60 || !(mid > a && mid < b) {
+                    if opposite {
+                        out.push(mid);
+                    }
+                } else {
+                    stack.push((a, mid, depth + 1));
+                    stack.push((mid, b, depth + 1));
+                }
+            }
+        }
+    }
+}
+
+/// A root of g in (a, b), given g(a) and g(b) of opposite signs: regula falsi with the
+/// Illinois modification (the retained end's value halved when the same end is kept twice),
+/// falling back to bisection when a step gains little; stops when the bracket is a few
+/// rounding units wide (Dahlquist & Björck, Numerical Methods, §6.2, from memory).
+pub(crate) fn bracketed_root(g: &impl Fn(f64) -> f64, a: f64, b: f64, ga: f64, gb: f64) -> f64 {
+    let (mut a, mut b, mut ga, mut gb) = (a, b, ga, gb);
+    let mut side = 0i8;
+    for _ in 0..200 {
+        let width = b - a;
+        if width.abs() <= 4.0 * f64::EPSILON * a.abs().max(b.abs()) {
+            break;
+        }
+        let mut t = (a * gb - b * ga) / (gb - ga);
+        if !(t > a.min(b) && t < a.max(b)) {
+            t = 0.5 * (a + b);
+        }
+        let gt = g(t);
+        if gt == 0.0 {
+            return t;
+        }
+        if (gt > 0.0) == (ga > 0.0) {
+            a = t;
+            ga = gt;
+            if side == -1 {
+                gb *= 0.5;
+            }
+            side = -1;
+        } else {
+            b = t;
+            gb = gt;
+            if side == 1 {
+                ga *= 0.5;
+            }
+            side = 1;
+        }
+        // A step that kept less than half the bracket gets a bisection next.
+        if (b - a).abs() > 0.5 * width.abs() {
+            let m = 0.5 * (a + b);
+            let gm = g(m);
+            if gm == 0.0 {
+                return m;
+            }
+            if (gm > 0.0) == (ga > 0.0) {
+                a = m;
+                ga = gm;
+            } else {
+                b = m;
+                gb = gm;
+            }
+            side = 0;
+        }
+    }
+    0.5 * (a + b)
+}
+
+// ---------------------------------------------------------------------------------------
 // The common interface
 
 impl Curve {
@@ -1250,6 +1386,28 @@ impl Curve {
             Curve::Ellipse(e) => e.moments_between(ta, tb, origin),
             Curve::Nurbs(s) => s.moments_between(ta, tb, origin),
         }
+    }
+
+    /// Parameters strictly between ta and tb (either order) at which the curve crosses the
+    /// horizontal line y = c, ascending: in closed form on an ellipse, by Bézier sign
+    /// changes and bracketing on a spline (parameters clamped to its domain). Points where
+    /// the curve only touches the line may be missing; they change nothing on either side.
+    pub fn level_crossings(&self, ta: f64, tb: f64, c: f64) -> Vec<f64> {
+        let (mut lo, mut hi) = (ta.min(tb), ta.max(tb));
+        let mut out = Vec::new();
+        match self {
+            Curve::Ellipse(e) => e.level_crossings(lo, hi, c, &mut out),
+            Curve::Nurbs(s) => {
+                let (d0, d1) = s.domain();
+                lo = lo.max(d0);
+                hi = hi.min(d1);
+                if hi > lo {
+                    s.level_crossings(lo, hi, c, &mut out);
+                }
+            }
+        }
+        out.sort_by(f64::total_cmp);
+        out
     }
 
     /// Arc length from ta to tb (>= 0): adaptive Gauss–Legendre per quarter turn of an

@@ -15,16 +15,41 @@ use super::segment::{Arc, CurvePiece, CurveSpan, Point, Segment};
 /// below its wall thicknesses.
 pub const FLATTEN_REL: f64 = 1e-5;
 
-/// The curve as curve pieces, with one span per piece appended to `curves`. A closed curve
+/// The curve data of a drawing: the span table that [`CurvePiece::span`] indexes, and the
+/// curves the spans were cut from, which [`CurveSpan::curve`] indexes (the plastic
+/// properties clip the curve itself, see `section::plastic`).
+#[derive(Debug, Clone, Default)]
+pub struct CurveTable {
+    pub spans: Vec<CurveSpan>,
+    pub curves: Vec<Curve>,
+}
+
+impl CurveTable {
+    /// Every coordinate multiplied by `s > 0` (a change of units).
+    pub fn scale(&mut self, s: f64) {
+        for c in &mut self.spans {
+            *c = c.scaled(s);
+        }
+        let f = Affine::scaling(s, s);
+        for c in &mut self.curves {
+            *c = c.transformed(&f);
+        }
+    }
+}
+
+/// The curve as curve pieces, with one span per piece appended to `table.spans` and the
+/// curve itself to `table.curves`. A closed curve
 /// (end on start to 1e-12 of its size) ends exactly on its first point. Empty when the
 /// curve has no extent.
-pub fn curve_segments(curve: &Curve, curves: &mut Vec<CurveSpan>) -> Vec<Segment> {
+pub fn curve_segments(curve: &Curve, table: &mut CurveTable) -> Vec<Segment> {
     let (t0, t1) = curve.domain();
     let size = curve.bbox_between(t0, t1).diagonal();
     if !(size.is_finite() && size > 0.0) {
         return Vec::new();
     }
     let closed = curve.start().dist(curve.end()) <= 1e-12 * size;
+    let curve_idx = table.curves.len() as u32;
+    let curves = &mut table.spans;
     let params = curve.flatten(FLATTEN_REL * size, if closed { 4 } else { 2 });
     let first = curve.point(params[0]);
     let mut out = Vec::with_capacity(params.len().saturating_sub(1));
@@ -46,6 +71,9 @@ pub fn curve_segments(curve: &Curve, curves: &mut Vec<CurveSpan>) -> Vec<Segment
             correction: exact + line_moments(a - at, b - at) * -1.0,
             length: curve.length_between(ta, tb),
             bbox: curve.bbox_between(ta, tb),
+            curve: curve_idx,
+            ta,
+            tb,
         });
         out.push(Segment::Curve(CurvePiece {
             a,
@@ -56,17 +84,20 @@ pub fn curve_segments(curve: &Curve, curves: &mut Vec<CurveSpan>) -> Vec<Segment
         }));
         a = b;
     }
+    if !out.is_empty() {
+        table.curves.push(curve.clone());
+    }
     out
 }
 
 /// `segments` (lines and arcs) mapped by `f`. Lines stay lines; arcs stay arcs under a
 /// similarity (mirrored ones turn the other way) and become elliptical arcs otherwise, as
-/// curve pieces with their spans appended to `curves`. Curve pieces are not expected here
+/// curve pieces with their spans and curves appended to `curves`. Curve pieces are not expected here
 /// (curves are mapped as curves, see [`Curve::transformed`]); any met are mapped as chords.
 pub fn transformed_segments(
     segments: &[Segment],
     f: &Affine,
-    curves: &mut Vec<CurveSpan>,
+    curves: &mut CurveTable,
 ) -> Vec<Segment> {
     let similar = f.is_similarity();
     let det = f.det();
@@ -132,11 +163,12 @@ mod tests {
             t0: 0.0,
             t1: 2.0 * PI,
         });
-        let mut curves = Vec::new();
-        let segs = curve_segments(&e, &mut curves);
+        let mut table = CurveTable::default();
+        let segs = curve_segments(&e, &mut table);
+        let curves = &table.spans;
         assert!(segs.len() >= 100, "{} chords", segs.len());
         assert_eq!(segs[0].start(), segs[segs.len() - 1].end());
-        let m = loop_moments(&segs, c, &curves);
+        let m = loop_moments(&segs, c, curves);
         assert!(rel(m.a, PI * a * b) < 1e-12, "{}", m.a);
         assert!(rel(m.syy, PI * a * b.powi(3) / 4.0) < 1e-12);
         assert!(rel(m.sxx, PI * a.powi(3) * b / 4.0) < 1e-12);
@@ -163,10 +195,10 @@ mod tests {
         let r = 10.0;
         let circle = [Segment::Arc(Arc::circle(Point::new(3.0, 4.0), r))];
         let f = Affine::scaling(2.0, 0.5).then(&Affine::rotation(0.3));
-        let mut curves = Vec::new();
+        let mut curves = CurveTable::default();
         let segs = transformed_segments(&circle, &f, &mut curves);
         assert!(segs.iter().all(|s| matches!(s, Segment::Curve(_))));
-        let m = loop_moments(&segs, f.apply(Point::new(3.0, 4.0)), &curves);
+        let m = loop_moments(&segs, f.apply(Point::new(3.0, 4.0)), &curves.spans);
         assert!(rel(m.a, PI * r * r * 1.0) < 1e-12, "{}", m.a);
         // Mirrored similarity: still an arc, turning the other way, same size.
         let g = Affine::scaling(-1.5, 1.5);

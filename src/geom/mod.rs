@@ -17,6 +17,7 @@ pub mod predicates;
 pub mod segment;
 
 pub use chain::{chain, Chained, Loop, LoopProblem};
+pub use curve_pieces::CurveTable;
 pub use moments::Moments;
 pub use nest::{drop_crossing_loops, nest, Nested, Profile};
 pub use segment::{Arc, BBox, CurvePiece, CurveSpan, Point, Segment};

@@ -367,13 +367,18 @@ pub struct CurvePiece {
 /// its end minus that of the chord, taken about `at` (a point near the piece, for precision);
 /// a loop's integrals are its segments' contributions plus the corrections of its curve
 /// pieces (negated for reversed pieces). `length` is the curve's length and `bbox` its exact
-/// box over the piece.
+/// box over the piece. `curve` indexes the drawing's curves
+/// ([`CurveTable::curves`](super::curve_pieces::CurveTable)) and the piece is that curve
+/// from parameter `ta` to `tb` (a piece with `reversed` runs from `tb` to `ta`).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CurveSpan {
     pub at: Point,
     pub correction: Moments,
     pub length: f64,
     pub bbox: BBox,
+    pub curve: u32,
+    pub ta: f64,
+    pub tb: f64,
 }
 
 impl CurveSpan {
@@ -396,6 +401,7 @@ impl CurveSpan {
                 min: self.bbox.min * s,
                 max: self.bbox.max * s,
             },
+            ..*self
         }
     }
 }

@@ -10,7 +10,7 @@ pub mod units;
 use std::collections::BTreeMap;
 use std::fmt;
 
-use crate::geom::{CurveSpan, Segment};
+use crate::geom::{CurveTable, Segment};
 pub use units::{LengthUnit, SourceUnits};
 
 /// Where something sits in a file: a line number of an ASCII file or a byte offset of a
@@ -103,9 +103,9 @@ pub struct Piece {
 pub struct Drawing {
     pub units: SourceUnits,
     pub pieces: Vec<Piece>,
-    /// Exact data of the curve pieces (ellipses, splines) among the pieces' segments,
-    /// indexed by [`CurvePiece::span`](crate::geom::CurvePiece).
-    pub curves: Vec<CurveSpan>,
+    /// Exact data of the curve pieces (ellipses, splines) among the pieces' segments: the
+    /// span table indexed by [`CurvePiece::span`](crate::geom::CurvePiece), and the curves.
+    pub curves: CurveTable,
     /// Entities not turned into pieces, by reason (e.g. `"TEXT"`, `"layer off: DIM"`).
     pub skipped: BTreeMap<String, usize>,
     /// Remarks for the user that are not errors.

@@ -2,7 +2,7 @@
 
 use std::io::Write;
 
-use super::{header, numeric_values, Row};
+use super::{header, numeric_values, Row, Tiers};
 use crate::import::LengthUnit;
 
 /// How numbers and fields are written.
@@ -12,6 +12,8 @@ pub struct CsvFormat {
     pub delimiter: u8,
     pub decimal_comma: bool,
     pub density_kg_m3: f64,
+    /// Optional column tiers.
+    pub tiers: Tiers,
 }
 
 impl Default for CsvFormat {
@@ -21,6 +23,7 @@ impl Default for CsvFormat {
             delimiter: b',',
             decimal_comma: false,
             density_kg_m3: 2700.0,
+            tiers: Tiers::default(),
         }
     }
 }
@@ -46,7 +49,7 @@ fn into_bytes(w: csv::Writer<Vec<u8>>) -> std::io::Result<Vec<u8>> {
 /// The header record alone.
 pub fn csv_header(fmt: &CsvFormat) -> std::io::Result<Vec<u8>> {
     let mut w = writer(Vec::new(), fmt);
-    w.write_record(header(fmt.unit))?;
+    w.write_record(header(fmt.unit, fmt.tiers))?;
     into_bytes(w)
 }
 
@@ -68,7 +71,7 @@ pub fn csv_records(rows: &[Row], fmt: &CsvFormat) -> std::io::Result<Vec<u8>> {
         }
         w.write_field(&o.layer)?;
         w.write_field(&o.drawing_units)?;
-        match numeric_values(o, fmt.unit, fmt.density_kg_m3) {
+        match numeric_values(o, fmt.unit, fmt.density_kg_m3, fmt.tiers) {
             Some(vals) => {
                 for v in vals {
                     num.clear();
@@ -77,7 +80,7 @@ pub fn csv_records(rows: &[Row], fmt: &CsvFormat) -> std::io::Result<Vec<u8>> {
                 }
             }
             None => {
-                for _ in 0..super::NUMERIC.len() {
+                for _ in 0..fmt.tiers.n_numeric() {
                     w.write_field("")?;
                 }
             }

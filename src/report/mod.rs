@@ -56,6 +56,44 @@ const NUMERIC: &[(&str, Dim)] = &[
     ("mass_kg_per_m", Dim::None),
 ];
 
+/// The plastic tier (`--plastic`, or `--all`), after the columns above. Offsets of the
+/// plastic neutral axes from the centroid (positive up for the axis parallel to x, to the
+/// right for the one parallel to y), plastic section moduli about axes parallel to x, y and
+/// the principal axes 1 (of i1) and 2 (of i2), and shape factors (plastic over the smaller
+/// elastic modulus).
+const PLASTIC: &[(&str, Dim)] = &[
+    ("pna_x", Dim::L(1)),
+    ("pna_y", Dim::L(1)),
+    ("plastic_x", Dim::L(3)),
+    ("plastic_y", Dim::L(3)),
+    ("shape_x", Dim::None),
+    ("shape_y", Dim::None),
+    ("plastic_1", Dim::L(3)),
+    ("plastic_2", Dim::L(3)),
+];
+
+/// Which optional tiers of columns a report carries; each tier comes after the core
+/// columns and those of the tiers before it, so the column order never changes.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Tiers {
+    pub plastic: bool,
+}
+
+impl Tiers {
+    /// Every tier, present and future (`--all`).
+    pub const ALL: Tiers = Tiers { plastic: true };
+
+    fn columns(self) -> impl Iterator<Item = &'static (&'static str, Dim)> {
+        let plastic: &[(&str, Dim)] = if self.plastic { PLASTIC } else { &[] };
+        NUMERIC.iter().chain(plastic)
+    }
+
+    /// How many numeric columns a row has.
+    pub fn n_numeric(self) -> usize {
+        self.columns().count()
+    }
+}
+
 /// Leading text columns.
 const TEXT: &[&str] = &[
     "file",
@@ -67,9 +105,9 @@ const TEXT: &[&str] = &[
 ];
 
 /// The header for output length unit `unit`.
-pub fn header(unit: LengthUnit) -> Vec<String> {
+pub fn header(unit: LengthUnit, tiers: Tiers) -> Vec<String> {
     let mut h: Vec<String> = TEXT.iter().map(|s| s.to_string()).collect();
-    for (stem, dim) in NUMERIC {
+    for (stem, dim) in tiers.columns() {
         h.push(match dim {
             Dim::None => stem.to_string(),
             Dim::L(1) => format!("{stem}_{}", unit.name),
@@ -79,11 +117,17 @@ pub fn header(unit: LengthUnit) -> Vec<String> {
     h
 }
 
-/// Numeric values of a row in the column order of `NUMERIC`, converted from millimetres
-/// to `unit`; `None` for an error row.
-pub fn numeric_values(o: &Outcome, unit: LengthUnit, density_kg_m3: f64) -> Option<Vec<f64>> {
+/// Numeric values of a row in the column order of the header, converted from millimetres
+/// to `unit`; `None` for an error row. Plastic values that were not computed are NaN (empty
+/// fields).
+pub fn numeric_values(
+    o: &Outcome,
+    unit: LengthUnit,
+    density_kg_m3: f64,
+    tiers: Tiers,
+) -> Option<Vec<f64>> {
     let p = o.result.as_ref().ok()?;
-    let raw = [
+    let mut raw = vec![
         p.area,
         p.perimeter,
         p.perimeter_outer,
@@ -112,9 +156,24 @@ pub fn numeric_values(o: &Outcome, unit: LengthUnit, density_kg_m3: f64) -> Opti
         // kg/m = mm² · 1e-6 m²/mm² · kg/m³
         p.area * 1e-6 * density_kg_m3,
     ];
+    if tiers.plastic {
+        match &p.plastic {
+            Some(q) => raw.extend([
+                q.pna_x,
+                q.pna_y,
+                q.plastic_x,
+                q.plastic_y,
+                q.shape_x,
+                q.shape_y,
+                q.plastic_1,
+                q.plastic_2,
+            ]),
+            None => raw.extend([f64::NAN; 8]),
+        }
+    }
     Some(
         raw.iter()
-            .zip(NUMERIC)
+            .zip(tiers.columns())
             .map(|(v, (_, dim))| match dim {
                 Dim::None => *v,
                 Dim::L(k) => *v / unit.mm.powi(*k),

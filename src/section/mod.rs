@@ -2,6 +2,8 @@
 //!
 //! This module does no I/O. All lengths are millimetres.
 
+pub mod plastic;
 pub mod props;
 
+pub use plastic::{plastic_props, PlasticProps};
 pub use props::{section_props, SectionProps};

@@ -1,5 +1,6 @@
 //! Geometric section properties of one profile (or of several merged into one section).
 
+use super::PlasticProps;
 use crate::geom::{BBox, Moments, Point, Profile};
 
 /// Properties of a cross-section, in millimetres. Axes and signs:
@@ -41,6 +42,8 @@ pub struct SectionProps {
     pub ry: f64,
     pub r1: f64,
     pub r2: f64,
+    /// Plastic properties, when asked for ([`super::plastic_props`]).
+    pub plastic: Option<PlasticProps>,
 }
 
 /// Principal second moments and the angle of the major axis, from centroidal ixx, iyy, ixy.
@@ -109,5 +112,6 @@ pub fn section_props(profiles: &[&Profile]) -> SectionProps {
         ry: gyr(iyy),
         r1: gyr(i1),
         r2: gyr(i2),
+        plastic: None,
     }
 }

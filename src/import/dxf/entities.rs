@@ -20,7 +20,7 @@ use super::hatch::{parse_hatch, HatchBoundary, HatchEdge, HatchPath};
 use super::{decode_text, Reader, Verdict};
 use crate::geom::curve::{Affine, Curve, EllipseArc, Nurbs};
 use crate::geom::curve_pieces::{curve_segments, transformed_segments};
-use crate::geom::{Arc, CurveSpan, Point, Segment};
+use crate::geom::{Arc, CurveTable, Point, Segment};
 use crate::import::{Handle, ImportError, LayerName, Location, Origin, Piece};
 
 /// Skip-reason texts used in more than one place.
@@ -1052,7 +1052,7 @@ enum PathPart {
 fn hatch_path(
     path: &HatchPath,
     f: &Affine,
-    curves: &mut Vec<CurveSpan>,
+    curves: &mut CurveTable,
 ) -> Result<Vec<PathPart>, String> {
     let p = |(x, y): (f64, f64)| Point::new(x, y);
     let mut parts = Vec::new();
@@ -1173,12 +1173,7 @@ fn hatch_path(
 }
 
 /// The lines and arcs gathered so far as one open part, mapped onto the drawing plane.
-fn flush(
-    run: &mut Vec<Segment>,
-    parts: &mut Vec<PathPart>,
-    f: &Affine,
-    curves: &mut Vec<CurveSpan>,
-) {
+fn flush(run: &mut Vec<Segment>, parts: &mut Vec<PathPart>, f: &Affine, curves: &mut CurveTable) {
     if !run.is_empty() {
         parts.push(PathPart::Segments(
             transformed_segments(run, f, curves),
