@@ -415,7 +415,7 @@ fn all_adds_the_plastic_columns_with_their_units() {
     let (code, header, rows_all, stderr) = measure(&[&path("dxf/tube.dxf"), "--all"]);
     assert_eq!(code, 0, "{stderr}");
     // The core columns keep their order; the plastic tier follows them.
-    let core = header.len() - 8;
+    let core = header.len() - 12;
     assert_eq!(
         &header[core..],
         [
@@ -425,8 +425,12 @@ fn all_adds_the_plastic_columns_with_their_units() {
             "plastic_y_mm3",
             "shape_x",
             "shape_y",
+            "pna_1_mm",
+            "pna_2_mm",
             "plastic_1_mm3",
-            "plastic_2_mm3"
+            "plastic_2_mm3",
+            "shape_1",
+            "shape_2"
         ]
     );
     assert_eq!(rows[0].s("ixx_mm4"), rows_all[0].s("ixx_mm4"));

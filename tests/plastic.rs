@@ -51,8 +51,12 @@ fn rectangle_far_from_the_origin() {
     assert_close!(q.pna_y, 0.0, abs = 1e-9 * b);
     // Principal axes: i1 about y for a wide rectangle (θ = 90°).
     assert_eq!(s.theta_deg, 90.0);
-    assert_eq!(q.plastic_1, q.plastic_y);
-    assert_eq!(q.plastic_2, q.plastic_x);
+    assert_close!(q.plastic_1, q.plastic_y, rel = 1e-13);
+    assert_close!(q.plastic_2, q.plastic_x, rel = 1e-13);
+    assert_close!(q.shape_1, 1.5, rel = 1e-11);
+    assert_close!(q.shape_2, 1.5, rel = 1e-11);
+    assert_close!(q.pna_1, 0.0, abs = 1e-9 * b);
+    assert_close!(q.pna_2, 0.0, abs = 1e-9 * h);
 }
 
 #[test]
@@ -219,6 +223,13 @@ fn unequal_angle_by_hand() {
     assert_close!(q2.plastic_x, q.plastic_1, rel = 1e-10);
     assert_close!(q2.plastic_y, q.plastic_2, rel = 1e-10);
     assert!(q.plastic_1 > q.plastic_2);
+    // And so do the neutral axes' offsets (axis 1 positive towards theta + 90°, axis 2
+    // towards theta) and the shape factors (i1, i2 over the farthest fibres).
+    assert_close!(q2.pna_x, q.pna_1, rel = 1e-9);
+    assert_close!(q2.pna_y, q.pna_2, rel = 1e-9);
+    assert!(q.pna_1.abs() > 1.0 && q.pna_2.abs() > 0.1); // unsymmetric: off the centroid
+    assert_close!(q2.shape_x, q.shape_1, rel = 1e-9);
+    assert_close!(q2.shape_y, q.shape_2, rel = 1e-9);
 }
 
 #[test]

@@ -131,7 +131,7 @@ pub struct MeasureArgs {
     #[arg(long)]
     pub merge: bool,
 
-    /// Also compute the plastic properties: plastic neutral axes parallel to x and y (pna_x, pna_y: offsets from the centroid, positive up and right), plastic section moduli about them and about the principal axes (plastic_x, plastic_y, plastic_1, plastic_2) and shape factors (shape_x, shape_y). Exact, no flattening; columns added after the others.
+    /// Also compute the plastic properties: plastic neutral axes parallel to x and y (pna_x, pna_y: offsets from the centroid, positive up and right), plastic section moduli about them and about the principal axes (plastic_x, plastic_y, plastic_1, plastic_2, with pna_1, pna_2) and shape factors (shape_x, shape_y, shape_1, shape_2). Exact, no flattening; columns added after the others.
     #[arg(long)]
     pub plastic: bool,
 

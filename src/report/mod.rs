@@ -59,8 +59,8 @@ const NUMERIC: &[(&str, Dim)] = &[
 /// The plastic tier (`--plastic`, or `--all`), after the columns above. Offsets of the
 /// plastic neutral axes from the centroid (positive up for the axis parallel to x, to the
 /// right for the one parallel to y), plastic section moduli about axes parallel to x, y and
-/// the principal axes 1 (of i1) and 2 (of i2), and shape factors (plastic over the smaller
-/// elastic modulus).
+/// the principal axes 1 (of i1) and 2 (of i2) with their neutral axes' offsets, and shape
+/// factors (plastic over the smaller elastic modulus).
 const PLASTIC: &[(&str, Dim)] = &[
     ("pna_x", Dim::L(1)),
     ("pna_y", Dim::L(1)),
@@ -68,8 +68,12 @@ const PLASTIC: &[(&str, Dim)] = &[
     ("plastic_y", Dim::L(3)),
     ("shape_x", Dim::None),
     ("shape_y", Dim::None),
+    ("pna_1", Dim::L(1)),
+    ("pna_2", Dim::L(1)),
     ("plastic_1", Dim::L(3)),
     ("plastic_2", Dim::L(3)),
+    ("shape_1", Dim::None),
+    ("shape_2", Dim::None),
 ];
 
 /// Which optional tiers of columns a report carries; each tier comes after the core
@@ -165,10 +169,14 @@ pub fn numeric_values(
                 q.plastic_y,
                 q.shape_x,
                 q.shape_y,
+                q.pna_1,
+                q.pna_2,
                 q.plastic_1,
                 q.plastic_2,
+                q.shape_1,
+                q.shape_2,
             ]),
-            None => raw.extend([f64::NAN; 8]),
+            None => raw.extend([f64::NAN; PLASTIC.len()]),
         }
     }
     Some(

@@ -54,10 +54,19 @@ pub struct PlasticProps {
     /// Shape factors: plastic modulus over the smaller elastic modulus about the same axis.
     pub shape_x: f64,
     pub shape_y: f64,
+    /// Offsets of the plastic neutral axes parallel to the principal axes from the centroid:
+    /// for axis 1 (of i1, at `theta_deg`) positive towards theta + 90°, for axis 2 (at
+    /// theta − 90°) positive towards theta.
+    pub pna_1: f64,
+    pub pna_2: f64,
     /// Plastic section moduli for bending about axes parallel to the major (i1) and minor
     /// (i2) principal axes.
     pub plastic_1: f64,
     pub plastic_2: f64,
+    /// Shape factors about the principal axes: plastic modulus over the smaller elastic
+    /// modulus, i1 (i2) over the distance from the principal axis to the farthest fibre.
+    pub shape_1: f64,
+    pub shape_2: f64,
 }
 
 /// The plastic neutral axis of one bending direction.
@@ -71,6 +80,10 @@ pub struct PlasticAxis {
     /// The section's area, and the area on the left side of the plastic neutral axis.
     pub area: f64,
     pub area_beyond: f64,
+    /// Distance from the frame's reference point to the farthest fibre, across the axis:
+    /// max(y_max, −y_min) in the frame. With the centroid as reference, the second moment
+    /// about the axis over this is the smaller elastic section modulus.
+    pub farthest_fibre: f64,
 }
 
 /// A boundary piece in the frame; curve pieces run from `t0` to `t1` on `curves[curve]`.
@@ -178,24 +191,16 @@ impl Frame {
                                 curves.len() - 1
                             }
                         };
-                        // The span's exact box, turned into the frame: its corners bound it.
-                        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
-                        let bb = span.bbox;
-                        for q in [
-                            bb.min,
-                            bb.max,
-                            Point::new(bb.min.x, bb.max.y),
-                            Point::new(bb.max.x, bb.min.y),
-                        ] {
-                            let y = f.apply(q).y;
-                            lo = lo.min(y);
-                            hi = hi.max(y);
-                        }
                         let (t0, t1) = if c.reversed {
                             (span.tb, span.ta)
                         } else {
                             (span.ta, span.tb)
                         };
+                        // The piece's box in the frame, from the turned curve itself (exact
+                        // for ellipses, within 1e-12 of a span for splines): the farthest
+                        // fibre of an elastic modulus may lie on it.
+                        let bb = curves[idx].bbox_between(t0, t1);
+                        let (lo, hi) = (bb.min.y, bb.max.y);
                         Part {
                             kind: Kind::Curve { curve: idx, t0, t1 },
                             ymin: lo,
@@ -293,6 +298,7 @@ impl Frame {
             modulus: 2.0 * s_above - s_all,
             area,
             area_beyond: a_above,
+            farthest_fibre: hi.max(-lo),
         })
     }
 }
@@ -509,16 +515,13 @@ pub fn plastic_props(
     // The axis along −y has +x on its left: offsets positive to the right.
     let y = Frame::new(profiles, table, at, -90.0).plastic()?;
     let theta = props.theta_deg;
-    let (plastic_1, plastic_2) = if theta == 0.0 {
-        (x.modulus, y.modulus)
-    } else if theta == 90.0 {
-        (y.modulus, x.modulus)
+    // Axis 1 lies at theta, axis 2 at theta − 90° (its frame's +y points along axis 1).
+    let (one, two) = if theta == 0.0 {
+        (x, y)
     } else {
         (
-            Frame::new(profiles, table, at, theta).plastic()?.modulus,
-            Frame::new(profiles, table, at, theta - 90.0)
-                .plastic()?
-                .modulus,
+            Frame::new(profiles, table, at, theta).plastic()?,
+            Frame::new(profiles, table, at, theta - 90.0).plastic()?,
         )
     };
     Ok(PlasticProps {
@@ -528,8 +531,12 @@ pub fn plastic_props(
         plastic_y: y.modulus,
         shape_x: x.modulus / props.wx_top.min(props.wx_bottom),
         shape_y: y.modulus / props.wy_left.min(props.wy_right),
-        plastic_1,
-        plastic_2,
+        pna_1: one.offset,
+        pna_2: two.offset,
+        plastic_1: one.modulus,
+        plastic_2: two.modulus,
+        shape_1: one.modulus / (props.i1 / one.farthest_fibre),
+        shape_2: two.modulus / (props.i2 / two.farthest_fibre),
     })
 }
 
