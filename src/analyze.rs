@@ -98,9 +98,15 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     (extent, short)
 }
 
-/// Read and measure one DXF file held in memory.
+/// Read and measure one DXF or SVG file held in memory (told apart by content, see
+/// [`import::svg::looks_like_svg`]).
 pub fn analyze_drawing(bytes: &[u8], settings: &Settings) -> Vec<Outcome> {
-    match import::dxf::read(bytes, &settings.read) {
+    let read = if import::svg::looks_like_svg(bytes) {
+        import::svg::read(bytes, &settings.read)
+    } else {
+        import::dxf::read(bytes, &settings.read)
+    };
+    match read {
         Ok(d) => measure_drawing(d, settings),
         Err(e) => file_row("", e.to_string()),
     }

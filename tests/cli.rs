@@ -389,7 +389,7 @@ fn usage_errors_exit_2() {
     let dir = tempfile::tempdir().expect("temp dir");
     let out = run(&["measure", dir.path().to_str().unwrap()]);
     assert_eq!(out.status.code(), Some(2), "a folder without drawings");
-    assert!(String::from_utf8_lossy(&out.stderr).contains("no .dxf files"));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("no .dxf or .svg files"));
     let out = run(&["measure", &path("dxf/tube.dxf"), "--units", "furlong"]);
     assert_eq!(out.status.code(), Some(2));
     let out = run(&["measure"]);

@@ -395,6 +395,7 @@ fn selected_layers() {
         include_hidden_layers: false,
         hatch_outlines: false,
         census: false,
+        svg_mm_per_unit: None,
     };
     let d = read(text.as_bytes(), &sel).unwrap();
     assert_eq!(d.pieces.len(), 1);

@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand, ValueEnum};
 
-const ABOUT: &str = "Cross-section properties of extruded profiles, read from the closed outlines of DXF drawings: one CSV row per profile.";
+const ABOUT: &str = "Cross-section properties of extruded profiles, read from the closed outlines of DXF and SVG drawings: one CSV row per profile.";
 
 const CONVENTIONS: &str = "\
 Conventions: coordinates are the drawing's own, y up. Second moments (ixx, iyy) are about axes
@@ -27,10 +27,10 @@ pub struct Cli {
 
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Measure every closed profile in DXF files or folders (searched recursively) and write one CSV row per profile.
+    /// Measure every closed profile in DXF and SVG files or folders (searched recursively) and write one CSV row per profile.
     #[command(after_help = CONVENTIONS)]
     Measure(MeasureArgs),
-    /// Explain what sectio makes of one DXF file: layers, skipped entities, the join gap, every loop and profile, and every problem, as plain text.
+    /// Explain what sectio makes of one DXF or SVG file: layers, skipped entities, the join gap, every loop and profile, and every problem, as plain text.
     #[command(after_help = EXPLAIN_HELP)]
     Explain(ExplainArgs),
 }
@@ -49,7 +49,7 @@ check. Member design follows the applicable code and is signed off by a qualifie
 /// The reading options of `explain`: the same flags, help and defaults as `measure`'s.
 #[derive(Debug, clap::Args)]
 pub struct ExplainArgs {
-    /// The DXF file to explain.
+    /// The DXF or SVG file to explain.
     #[arg(value_name = "FILE")]
     pub file: PathBuf,
 
@@ -77,6 +77,10 @@ pub struct ExplainArgs {
     /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. The report shows how it was chosen.
     #[arg(long, value_name = "MM")]
     pub gap: Option<f64>,
+
+    /// Millimetres per SVG user unit, overriding the page size (width, height) and viewBox of SVG files. Default: from the page size; 1 px = 25.4/96 mm when the file gives none (the row says so).
+    #[arg(long, value_name = "MM_PER_UNIT", value_parser = positive_scale)]
+    pub svg_scale: Option<f64>,
 }
 
 /// Output and assumed length units.
@@ -90,7 +94,7 @@ pub enum UnitArg {
 
 #[derive(Debug, clap::Args)]
 pub struct MeasureArgs {
-    /// DXF files, or folders searched recursively for *.dxf (any case).
+    /// DXF and SVG files, or folders searched recursively for *.dxf and *.svg (any case).
     #[arg(required = true, value_name = "PATH")]
     pub paths: Vec<PathBuf>,
 
@@ -127,6 +131,10 @@ pub struct MeasureArgs {
     #[arg(long, value_name = "MM")]
     pub gap: Option<f64>,
 
+    /// Millimetres per SVG user unit, overriding the page size (width, height) and viewBox of SVG files. Default: from the page size; 1 px = 25.4/96 mm when the file gives none (the row says so).
+    #[arg(long, value_name = "MM_PER_UNIT", value_parser = positive_scale)]
+    pub svg_scale: Option<f64>,
+
     /// Measure all profiles of a file as one section (a built-up or multi-part section).
     #[arg(long)]
     pub merge: bool,
@@ -154,4 +162,14 @@ pub struct MeasureArgs {
     /// Write decimal commas (1234,5) for spreadsheets in locales that expect them.
     #[arg(long)]
     pub decimal_comma: bool,
+}
+
+/// A finite number above zero, for `--svg-scale`.
+fn positive_scale(text: &str) -> Result<f64, String> {
+    match text.parse::<f64>() {
+        Ok(v) if v.is_finite() && v > 0.0 => Ok(v),
+        _ => Err(format!(
+            "expected a number of millimetres above zero, found {text:?}"
+        )),
+    }
 }

@@ -10,8 +10,8 @@ use rayon::prelude::*;
 use crate::analyze::{analyze_drawing, Outcome, Settings};
 use crate::report::Row;
 
-/// Files named by `paths`: files as given, folders searched recursively for `*.dxf` (any
-/// case). Sorted by path and without repeats, so the output order never depends on the
+/// Files named by `paths`: files as given, folders searched recursively for `*.dxf` and
+/// `*.svg` (any case). Sorted by path and without repeats, so the output order never depends on the
 /// file system. A path that does not exist is kept, to become an error row.
 pub fn collect_files(paths: &[PathBuf]) -> anyhow::Result<Vec<PathBuf>> {
     let mut files = Vec::new();
@@ -36,7 +36,7 @@ fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> std::io::Result<()> {
             walk(&path, out)?;
         } else if path
             .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("dxf"))
+            .is_some_and(|e| e.eq_ignore_ascii_case("dxf") || e.eq_ignore_ascii_case("svg"))
         {
             out.push(path);
         }

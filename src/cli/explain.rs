@@ -34,6 +34,7 @@ pub(super) fn explain(args: ExplainArgs) -> anyhow::Result<i32> {
             include_hidden_layers: args.include_hidden_layers,
             hatch_outlines: args.hatch_outlines,
             census: true,
+            svg_mm_per_unit: args.svg_scale,
         },
         join_gap: args.gap,
         merge: false,

@@ -70,7 +70,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     }
     let files = batch::collect_files(&args.paths)?;
     if files.is_empty() {
-        bail!("no .dxf files found in the given paths");
+        bail!("no .dxf or .svg files found in the given paths");
     }
     let tiers = if args.all {
         Tiers::ALL
@@ -86,6 +86,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             include_hidden_layers: args.include_hidden_layers,
             hatch_outlines: args.hatch_outlines,
             census: false,
+            svg_mm_per_unit: args.svg_scale,
         },
         join_gap: args.gap,
         merge: args.merge,

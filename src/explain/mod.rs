@@ -195,7 +195,12 @@ pub fn explain_drawing(bytes: &[u8], settings: &Settings) -> Explanation {
         census: true,
         ..settings.read.clone()
     };
-    let read = import::dxf::read(bytes, &options).map(|d| details(d, settings, options));
+    let read = if import::svg::looks_like_svg(bytes) {
+        import::svg::read(bytes, &options)
+    } else {
+        import::dxf::read(bytes, &options)
+    };
+    let read = read.map(|d| details(d, settings, options));
     Explanation { binary, read }
 }
 

@@ -5,6 +5,7 @@
 //! every entity is either turned into a [`Piece`] or counted in [`Drawing::skipped`].
 
 pub mod dxf;
+pub mod svg;
 pub mod units;
 
 use std::collections::BTreeMap;
@@ -162,6 +163,8 @@ pub struct ReadOptions {
     /// Also keep the LAYER table and count model-space entities by layer and type, in
     /// [`Drawing::file`] (for `sectio explain`; off when measuring, which does not need them).
     pub census: bool,
+    /// Millimetres per SVG user unit, overriding the page size and viewBox of SVG files.
+    pub svg_mm_per_unit: Option<f64>,
 }
 
 impl ReadOptions {
@@ -192,6 +195,8 @@ pub enum ImportErrorKind {
     Malformed(String),
     /// Something the reader does not support.
     Unsupported(String),
+    /// An SVG file that is not well-formed XML, or whose root is not `<svg>`.
+    MalformedSvg(String),
 }
 
 impl ImportError {
@@ -208,6 +213,7 @@ impl fmt::Display for ImportError {
             ImportErrorKind::Truncated(m) => write!(f, "truncated file: {m}")?,
             ImportErrorKind::Malformed(m) => write!(f, "malformed DXF: {m}")?,
             ImportErrorKind::Unsupported(m) => write!(f, "unsupported: {m}")?,
+            ImportErrorKind::MalformedSvg(m) => write!(f, "malformed SVG: {m}")?,
         }
         if let Some(loc) = self.location {
             write!(f, " (at {loc})")?;
@@ -267,6 +273,7 @@ mod tests {
             include_hidden_layers: false,
             hatch_outlines: false,
             census: false,
+            svg_mm_per_unit: None,
         };
         assert!(opts.layer_selected("PROFILE"));
         assert!(!opts.layer_selected("profile-hidden"));
