@@ -42,7 +42,10 @@ fn dxf_files(dir: &Path) -> Vec<PathBuf> {
     };
     let mut files: Vec<PathBuf> = entries
         .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("dxf")))
+        .filter(|p| {
+            p.extension()
+                .is_some_and(|e| e.eq_ignore_ascii_case("dxf") || e.eq_ignore_ascii_case("svg"))
+        })
         .collect();
     files.sort();
     files
@@ -57,6 +60,7 @@ fn rows_are_numbered_as_measure_numbers_them() {
     let mut files = dxf_files(&root().join("fixtures/dxf"));
     files.extend(dxf_files(&root().join("fixtures/demo")));
     files.extend(dxf_files(&root().join("../shared/corpus/real/dxf")));
+    files.extend(dxf_files(&root().join("../shared/corpus/real/svg")));
     assert!(files.len() >= 20, "fixtures missing: {files:?}");
     let profile_only = Settings {
         read: ReadOptions {

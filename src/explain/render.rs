@@ -78,27 +78,14 @@ fn plural(n: usize) -> &'static str {
 
 fn write_file(w: &mut dyn Write, format: &str, d: &Details) -> io::Result<()> {
     let f = &d.file;
-    let mut lines = vec![vec!["format".to_string(), format.to_string()]];
-    lines.push(vec![
-        "release".into(),
-        match &f.version {
-            Some(v) => format!("{v} ($ACADVER)"),
-            None => "not stated (no $ACADVER)".into(),
-        },
-    ]);
-    lines.push(vec![
-        "code page".into(),
-        match &f.code_page {
-            Some(c) => format!(
-                "{c} ($DWGCODEPAGE); names that are not UTF-8 read as {}",
-                f.text_encoding
-            ),
-            None => format!(
-                "not stated; names that are not UTF-8 read as {}",
-                f.text_encoding
-            ),
-        },
-    ]);
+    let mut lines = Vec::new();
+    if f.svg {
+        lines.push(vec!["format".to_string(), "SVG".to_string()]);
+        lines.push(vec!["encoding".to_string(), f.text_encoding.to_string()]);
+    } else {
+        lines.push(vec!["format".to_string(), format.to_string()]);
+        lines.extend(dxf_facts(f));
+    }
     let units = &d.units;
     lines.push(vec![
         "units".into(),
@@ -559,4 +546,30 @@ mod tests {
         assert_eq!(loop_list(&[4, 5]), "outer loop 4, hole 5");
         assert_eq!(loop_list(&[1, 2, 3]), "outer loop 1, holes 2, 3");
     }
+}
+
+/// The release and code-page lines of a DXF file.
+fn dxf_facts(f: &crate::import::FileFacts) -> Vec<Vec<String>> {
+    vec![
+        vec![
+            "release".into(),
+            match &f.version {
+                Some(v) => format!("{v} ($ACADVER)"),
+                None => "not stated (no $ACADVER)".into(),
+            },
+        ],
+        vec![
+            "code page".into(),
+            match &f.code_page {
+                Some(c) => format!(
+                    "{c} ($DWGCODEPAGE); names that are not UTF-8 read as {}",
+                    f.text_encoding
+                ),
+                None => format!(
+                    "not stated; names that are not UTF-8 read as {}",
+                    f.text_encoding
+                ),
+            },
+        ],
+    ]
 }

@@ -119,6 +119,8 @@ pub struct Drawing {
 /// Facts about a drawing file beside its geometry, for `sectio explain`.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct FileFacts {
+    /// An SVG file (else DXF).
+    pub svg: bool,
     /// A binary DXF file (else ASCII).
     pub binary: bool,
     /// `$ACADVER` as written, e.g. `AC1015`.

@@ -112,6 +112,7 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
         use_stack: Vec::new(),
     };
     reader.drawing.file.text_encoding = encoding;
+    reader.drawing.file.svg = true;
     for n in doc.descendants().filter(Node::is_element) {
         if let Some(id) = n.attribute("id") {
             reader.ids.entry(id.to_string()).or_insert(n);
