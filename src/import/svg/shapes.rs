@@ -202,9 +202,12 @@ pub(crate) fn arc_edge(
     let num = rx2 * ry2 - rx2 * y1p * y1p - ry2 * x1p * x1p;
     let den = rx2 * y1p * y1p + ry2 * x1p * x1p;
     // The centre's offset from the chord grows as the square root of 1 − Λ: a half arc
-    // (Λ = 1) whose end points carry rounding would move its centre by √(rounding). Within
-    // HALF_ARC of 1 the arc is taken as the half it was meant to be.
-    const HALF_ARC: f64 = 1e-10;
+    // (Λ = 1) whose end points carry rounding (editors write about 8 significant digits, so
+    // Λ is off by about 1e-8) would move its centre by √(rounding), about 1e-4 of the radius.
+    // Within HALF_ARC of 1 the arc is taken as the half it was meant to be (common practice
+    // for written data; an arc truly that close to a half differs from it by less than its
+    // digits can say).
+    const HALF_ARC: f64 = 1e-7;
     let mut k = if lambda > 1.0 - HALF_ARC {
         0.0
     } else {
@@ -486,6 +489,24 @@ mod tests {
             e,
             Some(Edge::Line(Point::new(0.0, 0.0), Point::new(1.0, 0.0)))
         );
+    }
+
+    /// A half circle written with 8 significant digits: still a half circle, its centre on
+    /// the chord's midpoint (not √(rounding) away from it).
+    #[test]
+    fn rounded_half_arcs_stay_half() {
+        let (a, b) = (
+            Point::new(23.059575, 16.392569),
+            Point::new(7.2207476, 31.138431),
+        );
+        let r = 0.5 * a.dist(b);
+        // Rounding up by 2e-8 (8 significant digits) leaves Λ just under 1.
+        let r8 = r * (1.0 + 2e-8);
+        let Some(Edge::Arc(arc)) = arc_edge(a, b, r8, r8, 0.0, false, true) else {
+            panic!("circular arc expected")
+        };
+        assert!(arc.center.dist((a + b) * 0.5) < 1e-12 * r);
+        assert!((arc.sweep.abs() - PI).abs() < 1e-12);
     }
 
     /// Large-arc and sweep flags choose among the four arcs (SVG 1.1 F.6.4): from (0,0) to
