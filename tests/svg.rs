@@ -561,4 +561,22 @@ fn measure_takes_a_folder_mixing_dxf_and_svg() {
         assert_close!(area, PI * 100.0, rel = 1e-10);
     }
     assert!(rows[1][col("file")].ends_with("b.SVG"));
+    // --svg-scale 2: r = 20 mm; a scale that is not a positive number is a usage error.
+    let svg_file = dir.path().join("b.SVG");
+    let out = Command::new(env!("CARGO_BIN_EXE_sectio"))
+        .args(["measure", "--svg-scale", "2"])
+        .arg(&svg_file)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(0));
+    let mut r = csv::Reader::from_reader(&out.stdout[..]);
+    let row = r.records().next().expect("a row").expect("record");
+    let area: f64 = row[col("area_mm2")].parse().expect("number");
+    assert_close!(area, PI * 400.0, rel = 1e-10);
+    let out = Command::new(env!("CARGO_BIN_EXE_sectio"))
+        .args(["measure", "--svg-scale", "-1"])
+        .arg(&svg_file)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2));
 }

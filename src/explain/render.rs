@@ -511,6 +511,32 @@ pub fn fmt_sig(v: f64, digits: usize) -> String {
     }
 }
 
+/// The release and code-page lines of a DXF file.
+fn dxf_facts(f: &crate::import::FileFacts) -> Vec<Vec<String>> {
+    vec![
+        vec![
+            "release".into(),
+            match &f.version {
+                Some(v) => format!("{v} ($ACADVER)"),
+                None => "not stated (no $ACADVER)".into(),
+            },
+        ],
+        vec![
+            "code page".into(),
+            match &f.code_page {
+                Some(c) => format!(
+                    "{c} ($DWGCODEPAGE); names that are not UTF-8 read as {}",
+                    f.text_encoding
+                ),
+                None => format!(
+                    "not stated; names that are not UTF-8 read as {}",
+                    f.text_encoding
+                ),
+            },
+        ],
+    ]
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -546,30 +572,4 @@ mod tests {
         assert_eq!(loop_list(&[4, 5]), "outer loop 4, hole 5");
         assert_eq!(loop_list(&[1, 2, 3]), "outer loop 1, holes 2, 3");
     }
-}
-
-/// The release and code-page lines of a DXF file.
-fn dxf_facts(f: &crate::import::FileFacts) -> Vec<Vec<String>> {
-    vec![
-        vec![
-            "release".into(),
-            match &f.version {
-                Some(v) => format!("{v} ($ACADVER)"),
-                None => "not stated (no $ACADVER)".into(),
-            },
-        ],
-        vec![
-            "code page".into(),
-            match &f.code_page {
-                Some(c) => format!(
-                    "{c} ($DWGCODEPAGE); names that are not UTF-8 read as {}",
-                    f.text_encoding
-                ),
-                None => format!(
-                    "not stated; names that are not UTF-8 read as {}",
-                    f.text_encoding
-                ),
-            },
-        ],
-    ]
 }

@@ -289,8 +289,7 @@ pub(crate) fn rect(x: f64, y: f64, w: f64, h: f64, rx: f64, ry: f64) -> Subpath 
             _ => (p(x, c.y), p(c.x, y)),
         }
     };
-    for k in 0..4 {
-        let (c, t0) = corners[k];
+    for (k, &(c, t0)) in corners.iter().enumerate() {
         let (a, b) = ends(k);
         debug_assert!(on(c, t0).dist(a) <= 1e-9 * (w + h));
         if rx == ry {
