@@ -755,66 +755,150 @@ struct Wall {
     to: Point,
 }
 
-/// The width across material from fraction t of segment `i` along the inward normal, when
-/// the boundary it meets faces back (a double normal within [`DOUBLE_NORMAL_DEG`]) and
-/// lies nearer than `cap`.
-fn wall_at(grid: &SegmentGrid, i: usize, t: f64, t_min: f64, cap: f64) -> Option<Wall> {
-    let (p, n) = boundary_point(&grid.segs[i], t);
+/// What a ray cast into the material from fraction t of segment `i` along its inward normal
+/// n finds: the width to the first boundary, n · m and n × m for the outward normal m
+/// there (m = n at a double normal), and whether either end is on a curved piece.
+#[derive(Debug, Clone, Copy)]
+struct Probe {
+    wall: Wall,
+    cos: f64,
+    sin: f64,
+    curved: bool,
+}
+
+fn probe(grid: &SegmentGrid, i: usize, t: f64, t_min: f64, cap: f64) -> Option<Probe> {
+    let s = &grid.segs[i];
+    let (p, n) = boundary_point(s, t);
     let hit = grid.first_hit(p, n, t_min, cap)?;
-    let m = outward_normal(&grid.segs[hit.seg], hit.at);
-    (m.dot(n) >= DOUBLE_NORMAL_DEG.to_radians().cos()).then_some(Wall {
-        width: hit.t,
-        from: p,
-        to: hit.at,
+    let other = &grid.segs[hit.seg];
+    let m = outward_normal(other, hit.at);
+    let straight = |x: &Segment| matches!(x, Segment::Line { .. });
+    Some(Probe {
+        wall: Wall {
+            width: hit.t,
+            from: p,
+            to: hit.at,
+        },
+        cos: m.dot(n),
+        sin: n.cross(m),
+        curved: !(straight(s) && straight(other)),
     })
+}
+
+/// A probe whose far side faces back within [`DOUBLE_NORMAL_DEG`].
+fn facing(pr: Option<Probe>) -> Option<Probe> {
+    pr.filter(|q| q.cos >= DOUBLE_NORMAL_DEG.to_radians().cos())
 }
 
 /// The thinnest wall of the loops filed in `grid` (see the module doc); `None` when no
 /// double normal exists.
+///
+/// Between two straight edges the angle between the ray and the far side's normal is the
+/// same all along, so any sample that faces back within [`DOUBLE_NORMAL_DEG`] is a wall (a
+/// drafted fin), refined by golden section to its narrowest place. Where an arc or a curve
+/// piece takes part, the angle turns along the boundary and the narrowest facing sample can
+/// lie merely at the edge of the tolerance (across an ellipse near its minor axis the ray
+/// shortens as it tilts): there only a true double normal counts, found where n × m changes
+/// sign between the sample's neighbours (bisection), or at a sample where it is zero to
+/// rounding (concentric arcs).
 fn thinnest_wall(grid: &SegmentGrid, size: f64) -> Option<Wall> {
     let segs = grid.segs;
     let total: f64 = segs.iter().map(|s| s.length()).sum();
     let samples = (4 * segs.len()).max(4000) as f64;
     let spacing = total / samples;
     let t_min = 1e-9 * size;
-    // Accepted samples: (width, segment, fraction, samples on that segment).
-    let mut found: Vec<(f64, usize, f64, usize)> = Vec::new();
+    let aligned = 1e-9;
+    // Facing samples: (width, segment, fraction, samples on that segment, curved).
+    let mut found: Vec<(f64, usize, f64, usize, bool)> = Vec::new();
     let mut best = f64::INFINITY;
     for (i, s) in segs.iter().enumerate() {
         let k = ((s.length() / spacing).ceil() as usize).clamp(4, 256);
         for j in 0..k {
             let t = (j as f64 + 0.5) / k as f64;
             // Walls much wider than the best so far cannot become the thinnest.
-            if let Some(w) = wall_at(grid, i, t, t_min, 2.0 * best) {
-                best = best.min(w.width);
-                found.push((w.width, i, t, k));
+            if let Some(q) = facing(probe(grid, i, t, t_min, 2.0 * best)) {
+                if !q.curved || q.sin.abs() <= aligned {
+                    best = best.min(q.wall.width);
+                }
+                found.push((q.wall.width, i, t, k, q.curved));
             }
         }
     }
     found.sort_by(|a, b| a.0.total_cmp(&b.0));
-    // Refine the best few, one per segment, by golden section along their segment.
-    let mut seen = Vec::new();
-    let mut result: Option<Wall> = None;
-    for &(_, i, t, k) in found.iter() {
-        if seen.contains(&i) {
+    // Refine the narrowest, one per segment, until a dozen have given a wall.
+    let mut tried = Vec::new();
+    let (mut walls, mut result) = (0, None::<Wall>);
+    for &(_, i, t, k, curved) in &found {
+        if tried.contains(&i) {
             continue;
         }
-        seen.push(i);
-        let width = |u: f64| wall_at(grid, i, u, t_min, f64::INFINITY).map_or(f64::INFINITY, |w| w.width);
+        tried.push(i);
         let h = 1.0 / k as f64;
-        let u = golden(&width, (t - h).max(0.0), (t + h).min(1.0));
-        for v in [u, t] {
-            if let Some(w) = wall_at(grid, i, v, t_min, f64::INFINITY) {
-                if result.is_none_or(|r| w.width < r.width) {
-                    result = Some(w);
-                }
+        let (lo, hi) = ((t - h).max(0.0), (t + h).min(1.0));
+        let wall = if curved {
+            double_normal(grid, i, t, lo, hi, t_min, aligned)
+        } else {
+            let width = |u: f64| match facing(probe(grid, i, u, t_min, f64::INFINITY)) {
+                Some(q) if !q.curved => q.wall.width,
+                _ => f64::INFINITY,
+            };
+            let u = golden(&width, lo, hi);
+            [u, t]
+                .iter()
+                .filter_map(|&v| facing(probe(grid, i, v, t_min, f64::INFINITY)))
+                .filter(|q| !q.curved)
+                .map(|q| q.wall)
+                .min_by(|a, b| a.width.total_cmp(&b.width))
+        };
+        if let Some(w) = wall {
+            walls += 1;
+            if result.is_none_or(|r| w.width < r.width) {
+                result = Some(w);
             }
         }
-        if seen.len() >= 12 {
+        if walls >= 12 || tried.len() >= 256 {
             break;
         }
     }
     result
+}
+
+/// A true double normal from segment `i` near fraction t: the sample itself when n × m is
+/// zero there to rounding, else where n × m changes sign in [lo, hi] (bisection).
+fn double_normal(
+    grid: &SegmentGrid,
+    i: usize,
+    t: f64,
+    lo: f64,
+    hi: f64,
+    t_min: f64,
+    aligned: f64,
+) -> Option<Wall> {
+    let at = |u: f64| facing(probe(grid, i, u, t_min, f64::INFINITY));
+    let here = at(t)?;
+    if here.sin.abs() <= aligned {
+        return Some(here.wall);
+    }
+    // The neighbour on the side where the sign changes.
+    let (mut a, mut b, mut sa) = match (at(lo), at(hi)) {
+        (Some(l), _) if l.sin * here.sin <= 0.0 => (lo, t, l.sin),
+        (_, Some(r)) if r.sin * here.sin <= 0.0 => (t, hi, here.sin),
+        _ => return None,
+    };
+    for _ in 0..60 {
+        let m = 0.5 * (a + b);
+        let sm = at(m)?.sin;
+        if sm * sa <= 0.0 {
+            b = m;
+        } else {
+            (a, sa) = (m, sm);
+        }
+    }
+    // At a joint of two chords the sign changes by a jump: accept the place if it faces
+    // back within a degree (far more than a curve's chords turn there).
+    at(0.5 * (a + b))
+        .filter(|q| q.cos >= 1f64.to_radians().cos())
+        .map(|q| q.wall)
 }
 
 // ---------------------------------------------------------------------------------------
@@ -876,7 +960,7 @@ fn largest_inscribed_circle(
     if !(side > 0.0) {
         return (best.d.max(0.0), best.center);
     }
-    let precision = 1e-7 * size;
+    let precision = 1e-9 * size;
     let mut heap = BinaryHeap::new();
     let (nx, ny) = (
         (bbox.width() / side).ceil() as usize,
