@@ -493,7 +493,11 @@ fn all_adds_the_extrusion_columns_after_the_plastic_ones() {
     let core = header_core_len(&header);
     assert_eq!(header.len(), core + 12 + 16);
     assert_eq!(&header[core + 12..], EXTRUSION_MM);
-    for col in ["circumscribed_diameter_mm", "thinnest_wall_mm", "mass_kg_per_m"] {
+    for col in [
+        "circumscribed_diameter_mm",
+        "thinnest_wall_mm",
+        "mass_kg_per_m",
+    ] {
         assert!(header.iter().any(|h| h == col), "{col}");
     }
     let r = &rows[0];
@@ -506,7 +510,11 @@ fn all_adds_the_extrusion_columns_after_the_plastic_ones() {
     assert_close!(r.f("perimeter_inner_mm"), PI * 44.0, rel = CSV_REL);
     assert_close!(r.f("surface_outer_m2_per_m"), PI * 50.0e-3, rel = CSV_REL);
     assert_close!(r.f("surface_inner_m2_per_m"), PI * 44.0e-3, rel = CSV_REL);
-    assert_close!(r.f("surface_m2_per_m"), r.f("perimeter_mm") * 1e-3, rel = CSV_REL);
+    assert_close!(
+        r.f("surface_m2_per_m"),
+        r.f("perimeter_mm") * 1e-3,
+        rel = CSV_REL
+    );
     // Concentric circles: both centres are the centroid (symmetry).
     assert_close!(r.f("outline_cx_mm"), r.f("cx_mm"), abs = 1e-9);
     assert_close!(r.f("circumscribed_cx_mm"), r.f("cx_mm"), abs = 1e-9);
@@ -517,7 +525,12 @@ fn all_adds_the_extrusion_columns_after_the_plastic_ones() {
     assert_eq!(rows_x[0].s("thinnest_wall_mm"), r.s("thinnest_wall_mm"));
     // --units in: lengths in inches (25.4 mm/in), surfaces stay in m²/m.
     let (_, header_in, rows_in, _) = measure(&[&path("dxf/tube.dxf"), "--all", "--units", "in"]);
-    for col in ["circumscribed_diameter_in", "thinnest_wall_in", "outline_cy_in", "perimeter_inner_in"] {
+    for col in [
+        "circumscribed_diameter_in",
+        "thinnest_wall_in",
+        "outline_cy_in",
+        "perimeter_inner_in",
+    ] {
         assert!(header_in.iter().any(|h| h == col), "{col} in {header_in:?}");
     }
     assert!(!header_in.iter().any(|h| h.ends_with("_mm")));
@@ -548,11 +561,27 @@ fn named_materials_set_the_density() {
     ] {
         let (code, _, rows, stderr) = measure(&[&path("dxf/tube.dxf"), "--material", name]);
         assert_eq!(code, 0, "{name}: {stderr}");
-        assert_close!(rows[0].f("mass_kg_per_m"), area * density * 1e-6, rel = CSV_REL);
+        assert_close!(
+            rows[0].f("mass_kg_per_m"),
+            area * density * 1e-6,
+            rel = CSV_REL
+        );
     }
     // A material and a density together are a usage error; an unknown name too.
-    let out = run(&["measure", &path("dxf/tube.dxf"), "--material", "steel", "--density", "7000"]);
+    let out = run(&[
+        "measure",
+        &path("dxf/tube.dxf"),
+        "--material",
+        "steel",
+        "--density",
+        "7000",
+    ]);
     assert_eq!(out.status.code(), Some(2));
-    let out = run(&["measure", &path("dxf/tube.dxf"), "--material", "unobtainium"]);
+    let out = run(&[
+        "measure",
+        &path("dxf/tube.dxf"),
+        "--material",
+        "unobtainium",
+    ]);
     assert_eq!(out.status.code(), Some(2));
 }

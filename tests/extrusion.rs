@@ -46,8 +46,16 @@ fn distance_to_boundary(segs: &[Segment], q: Point) -> f64 {
 
 /// The two ends of the thinnest wall lie on the boundary and the reported distance apart.
 fn check_wall_ends(x: &ExtrusionProps, segs: &[Segment], scale: f64) {
-    assert_close!(distance_to_boundary(segs, x.thinnest_wall_from), 0.0, abs = 1e-9 * scale);
-    assert_close!(distance_to_boundary(segs, x.thinnest_wall_to), 0.0, abs = 1e-9 * scale);
+    assert_close!(
+        distance_to_boundary(segs, x.thinnest_wall_from),
+        0.0,
+        abs = 1e-9 * scale
+    );
+    assert_close!(
+        distance_to_boundary(segs, x.thinnest_wall_to),
+        0.0,
+        abs = 1e-9 * scale
+    );
     assert_close!(
         x.thinnest_wall_from.dist(x.thinnest_wall_to),
         x.thinnest_wall,
@@ -69,7 +77,10 @@ fn circumscribing_circle_of_a_rectangle_is_its_diagonal() {
 #[test]
 fn circumscribing_circle_of_an_equilateral_triangle() {
     let a = 30.0;
-    let tri = poly(&[(0.0, 0.0), (a, 0.0), (a / 2.0, a * 3f64.sqrt() / 2.0)], &[]);
+    let tri = poly(
+        &[(0.0, 0.0), (a, 0.0), (a / 2.0, a * 3f64.sqrt() / 2.0)],
+        &[],
+    );
     let (s, x) = only_x(vec![closed(tri)]);
     // Equilateral triangle of side a: circumradius a/√3, centred on the centroid (closed
     // form, from memory).
@@ -85,7 +96,10 @@ fn circumscribing_circle_of_an_equilateral_triangle() {
 /// A rectangle L × 2r whose right end is a semicircle of radius r centred on (L, 0).
 fn slot(l: f64, r: f64) -> Vec<Segment> {
     // Bulge 1 = tan(180°/4): a counter-clockwise half turn (DXF reference, group 42).
-    poly(&[(0.0, -r), (l, -r), (l, r), (0.0, r)], &[0.0, 1.0, 0.0, 0.0])
+    poly(
+        &[(0.0, -r), (l, -r), (l, r), (0.0, r)],
+        &[0.0, 1.0, 0.0, 0.0],
+    )
 }
 
 #[test]
@@ -106,7 +120,11 @@ fn circumscribing_circle_touches_the_extreme_point_of_an_arc() {
         shift: p(1e5, -3e4),
     };
     let (_, y) = only_x(vec![f.piece(&closed(slot(l, r)))]);
-    assert_close!(y.circumscribed_diameter, x.circumscribed_diameter, rel = 1e-10);
+    assert_close!(
+        y.circumscribed_diameter,
+        x.circumscribed_diameter,
+        rel = 1e-10
+    );
     assert_close!(
         y.circumscribed_center.dist(f.apply(x.circumscribed_center)),
         0.0,
@@ -127,7 +145,14 @@ fn outline_centroid_of_the_slot_and_an_angle_by_hand() {
     // L 60 × 40 × 5 with sharp corners; by hand from the six edges' midpoints and lengths
     // (40, 5, 35, 55, 5, 60; total 200): Σx·ℓ = 2075, Σy·ℓ = 4075.
     let angle = poly(
-        &[(0.0, 0.0), (40.0, 0.0), (40.0, 5.0), (5.0, 5.0), (5.0, 60.0), (0.0, 60.0)],
+        &[
+            (0.0, 0.0),
+            (40.0, 0.0),
+            (40.0, 5.0),
+            (5.0, 5.0),
+            (5.0, 60.0),
+            (0.0, 60.0),
+        ],
         &[],
     );
     let (_, x) = only_x(vec![closed(angle.clone())]);
@@ -229,7 +254,11 @@ fn rectangular_hollow_section_wall() {
     assert_close!(y.thinnest_wall, t, rel = 1e-9);
     assert_close!(y.thickest_section, t, rel = 1e-9);
     assert_close!(y.circumscribed_diameter, want, rel = 1e-10);
-    assert_close!(y.outline_centroid.dist(f.apply(x.outline_centroid)), 0.0, abs = 1e-8);
+    assert_close!(
+        y.outline_centroid.dist(f.apply(x.outline_centroid)),
+        0.0,
+        abs = 1e-8
+    );
 }
 
 #[test]
@@ -353,7 +382,11 @@ fn ellipse_through_the_curve_path() {
     // Ellipse with semi-axes a, b: the smallest circle holding it is on its major axis, 2a
     // (closed form); found on the curve itself, not its chords.
     assert_close!(x.circumscribed_diameter, 2.0 * a, rel = 1e-10);
-    assert_close!(x.circumscribed_center.dist(Point::new(2e3, 5e2)), 0.0, abs = 1e-8);
+    assert_close!(
+        x.circumscribed_center.dist(Point::new(2e3, 5e2)),
+        0.0,
+        abs = 1e-8
+    );
     // Its narrowest double normal is the minor axis, 2b, and since a²/b ≥ b the largest
     // inscribed circle has radius b (closed form); chords are within 1e-5 of the size
     // (FLATTEN_REL), so within 2·1e-5·2a·√2 here.
@@ -361,7 +394,11 @@ fn ellipse_through_the_curve_path() {
     assert_close!(x.thinnest_wall, 2.0 * b, abs = tol);
     assert_close!(x.thickest_section, 2.0 * b, abs = tol);
     // Outline centroid at the centre (symmetry); perimeter from the curve, not the chords.
-    assert_close!(x.outline_centroid.dist(Point::new(2e3, 5e2)), 0.0, abs = 1e-9);
+    assert_close!(
+        x.outline_centroid.dist(Point::new(2e3, 5e2)),
+        0.0,
+        abs = 1e-9
+    );
     assert_close!(x.perimeter_outer, s.perimeter, rel = 1e-13);
 }
 
@@ -405,7 +442,10 @@ fn gear_of_ten_thousand_segments_with_a_bore() {
     check_wall_ends(&x, &segs, 100.0);
     // Bore to root: the root circle is 48 (from the outline's formula), so a circle between
     // bore and root is 28 across; under a tooth it can grow a little, never by a tooth's 4.
-    assert!(x.thickest_section > 27.0 && x.thickest_section < 29.0, "{x:?}");
+    assert!(
+        x.thickest_section > 27.0 && x.thickest_section < 29.0,
+        "{x:?}"
+    );
     assert_close!(x.circumscribed_diameter, 104.0, rel = 1e-6);
     assert_eq!(x.hollows, 1);
 }

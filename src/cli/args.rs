@@ -175,7 +175,13 @@ pub struct MeasureArgs {
     pub density: f64,
 
     /// Named material for mass_kg_per_m, case-insensitive: aluminium (2700 kg/m³, EN 1999-1-1), steel (7850, EN 1993-1-1 tables basis), stainless (7900, EN 10088-1 austenitic grades), pvc (1400, common practice for rigid PVC). Cannot be given with --density.
-    #[arg(long, value_enum, ignore_case = true, conflicts_with = "density", value_name = "NAME")]
+    #[arg(
+        long,
+        value_enum,
+        ignore_case = true,
+        conflicts_with = "density",
+        value_name = "NAME"
+    )]
     pub material: Option<MaterialArg>,
 
     /// Number of files processed in parallel (default: one per core). The output is the same for any value.

@@ -105,7 +105,10 @@ impl ExtrusionProps {
 
 /// The extruder's figures of the union of `profiles` (curve pieces look up their curves in
 /// `table`). An error says which figure could not be found.
-pub fn extrusion_props(profiles: &[&Profile], table: &CurveTable) -> Result<ExtrusionProps, String> {
+pub fn extrusion_props(
+    profiles: &[&Profile],
+    table: &CurveTable,
+) -> Result<ExtrusionProps, String> {
     let bbox = profiles.iter().fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
     let size = bbox.diagonal();
     if profiles.is_empty() || !(size.is_finite() && size > 0.0) {
@@ -113,11 +116,13 @@ pub fn extrusion_props(profiles: &[&Profile], table: &CurveTable) -> Result<Extr
     }
     // Work about the box centre: full precision far from the drawing's origin.
     let reference = bbox.center();
-    let shift = |segs: &[Segment]| -> Vec<Segment> {
-        segs.iter().map(|s| shifted(s, reference)).collect()
-    };
+    let shift =
+        |segs: &[Segment]| -> Vec<Segment> { segs.iter().map(|s| shifted(s, reference)).collect() };
 
-    let outer: Vec<Segment> = profiles.iter().flat_map(|p| shift(&p.outer.segments)).collect();
+    let outer: Vec<Segment> = profiles
+        .iter()
+        .flat_map(|p| shift(&p.outer.segments))
+        .collect();
     let circle = circumscribing_circle(&outer, table, reference, 1e-12 * size)
         .ok_or("extrusion figures: the circumscribing circle did not settle")?;
 
@@ -249,9 +254,16 @@ fn circle_on_three(a: Point, b: Point, c: Point) -> Circle {
     let (uu, vv) = (u.dot(u), v.dot(v));
     let d = 2.0 * u.cross(v);
     if d.abs() <= 1e-14 * (uu + vv) {
-        return [circle_on_two(a, b), circle_on_two(a, c), circle_on_two(b, c)]
-            .into_iter()
-            .fold(circle_on_two(a, a), |m, k| if k.radius > m.radius { k } else { m });
+        return [
+            circle_on_two(a, b),
+            circle_on_two(a, c),
+            circle_on_two(b, c),
+        ]
+        .into_iter()
+        .fold(
+            circle_on_two(a, a),
+            |m, k| if k.radius > m.radius { k } else { m },
+        );
     }
     // Circumcentre relative to a (common practice: the perpendicular bisectors' meeting).
     let o = Point::new(v.y * uu - u.y * vv, u.x * vv - v.x * uu) * (1.0 / d);
@@ -473,7 +485,11 @@ impl<'a> SegmentGrid<'a> {
         let (nx, ny) = (count(w), count(h));
         let mut grid = SegmentGrid {
             segs,
-            lo: if all.is_empty() { Point::default() } else { all.min },
+            lo: if all.is_empty() {
+                Point::default()
+            } else {
+                all.min
+            },
             cell,
             nx,
             ny,
@@ -489,9 +505,8 @@ impl<'a> SegmentGrid<'a> {
                 (x0, y0, x1, y1)
             })
             .collect();
-        let small = |r: &(usize, usize, usize, usize)| {
-            (r.2 - r.0 + 1) * (r.3 - r.1 + 1) <= Self::MAX_CELLS
-        };
+        let small =
+            |r: &(usize, usize, usize, usize)| (r.2 - r.0 + 1) * (r.3 - r.1 + 1) <= Self::MAX_CELLS;
         for (i, r) in ranges.iter().enumerate() {
             if small(r) {
                 for iy in r.1..=r.3 {
@@ -524,7 +539,9 @@ impl<'a> SegmentGrid<'a> {
 
     /// The cell holding `p`, clamped into the grid.
     fn cell_of(&self, p: Point) -> (usize, usize) {
-        let f = |v: f64, lo: f64, n: usize| (((v - lo) / self.cell) as i64).clamp(0, n as i64 - 1) as usize;
+        let f = |v: f64, lo: f64, n: usize| {
+            (((v - lo) / self.cell) as i64).clamp(0, n as i64 - 1) as usize
+        };
         (f(p.x, self.lo.x, self.nx), f(p.y, self.lo.y, self.ny))
     }
 
@@ -974,7 +991,7 @@ fn largest_inscribed_circle(
     };
     let side = bbox.width().min(bbox.height());
     let mut best = cell(bbox.center(), 0.0, f64::NEG_INFINITY);
-    if !(side > 0.0) {
+    if side.is_nan() || side <= 0.0 {
         return (best.d.max(0.0), best.center);
     }
     let precision = 1e-9 * size;
@@ -1020,7 +1037,11 @@ fn largest_inscribed_circle(
         }
     };
     search(heap, &mut best);
-    let around = cell(best.center, 2.0 * best.half.max(precision), f64::NEG_INFINITY);
+    let around = cell(
+        best.center,
+        2.0 * best.half.max(precision),
+        f64::NEG_INFINITY,
+    );
     search(BinaryHeap::from([around]), &mut best);
     // Onto the ridge: halfway between the nearest boundary point and the boundary straight
     // across from it, while that gains.
@@ -1068,7 +1089,10 @@ fn length_moment(s: &Segment, table: &CurveTable, reference: Point) -> (f64, Poi
                 Some(curve) => curve.length_moment_between(span.ta, span.tb, reference),
                 // A span without its curve (hand-built tables): its length at the chord's
                 // midpoint.
-                None => (span.length, ((piece.a + piece.b) * 0.5 - reference) * span.length),
+                None => (
+                    span.length,
+                    ((piece.a + piece.b) * 0.5 - reference) * span.length,
+                ),
             }
         }
     }
@@ -1117,7 +1141,10 @@ mod tests {
                     }
                 }
             }
-            assert!((c.radius - smallest).abs() <= 1e-9, "case {case}: {c:?} vs {smallest}");
+            assert!(
+                (c.radius - smallest).abs() <= 1e-9,
+                "case {case}: {c:?} vs {smallest}"
+            );
         }
     }
 
@@ -1135,7 +1162,11 @@ mod tests {
                 segs.push(Segment::line(arc.start, arc.end));
             }
         }
-        segs.extend(rect(20.0, 20.0).iter().map(|s| shifted(&s.reversed(), Point::new(10.0, 10.0))));
+        segs.extend(
+            rect(20.0, 20.0)
+                .iter()
+                .map(|s| shifted(&s.reversed(), Point::new(10.0, 10.0))),
+        );
         let grid = SegmentGrid::new(&segs);
         let mut r = uniform(3);
         for _ in 0..2000 {
