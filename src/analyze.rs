@@ -4,7 +4,7 @@ use std::collections::BTreeMap;
 
 use crate::geom::{chain, drop_crossing_loops, nest, BBox, CurvePiece, Profile, Segment};
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
-use crate::section::{plastic_props, section_props, SectionProps};
+use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
 
 /// Settings that shape how a drawing is read and measured.
 #[derive(Debug, Clone)]
@@ -18,6 +18,8 @@ pub struct Settings {
     pub assume_units: LengthUnit,
     /// Also compute the plastic properties ([`crate::section::plastic`]).
     pub plastic: bool,
+    /// Also compute the extruder's figures ([`crate::section::extrusion`]).
+    pub extrusion: bool,
 }
 
 impl Default for Settings {
@@ -28,6 +30,7 @@ impl Default for Settings {
             merge: false,
             assume_units: LengthUnit::MM,
             plastic: false,
+            extrusion: false,
         }
     }
 }
@@ -234,19 +237,25 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         }
         msgs
     };
-    // Elastic properties, and plastic ones when asked for; a failure of the latter (never
-    // expected) leaves their columns empty and says why in the message.
+    // Elastic properties, and the optional tiers when asked for; a failure of one of those
+    // (never expected) leaves its columns empty and says why in the message.
     let curve_table = &drawing.curves;
     let measure = |ps: &[&Profile]| -> (SectionProps, Option<String>) {
         let mut props = section_props(ps);
-        let mut failed = None;
+        let mut failed: Vec<String> = Vec::new();
         if settings.plastic {
             match plastic_props(ps, curve_table, &props) {
                 Ok(p) => props.plastic = Some(p),
-                Err(e) => failed = Some(e),
+                Err(e) => failed.push(e),
             }
         }
-        (props, failed)
+        if settings.extrusion {
+            match extrusion_props(ps, curve_table) {
+                Ok(x) => props.extrusion = Some(x),
+                Err(e) => failed.push(e),
+            }
+        }
+        (props, (!failed.is_empty()).then(|| failed.join("; ")))
     };
     let make = |layer: &str, result: Result<SectionProps, String>| Outcome {
         profile: 0,

@@ -415,9 +415,9 @@ fn all_adds_the_plastic_columns_with_their_units() {
     let (code, header, rows_all, stderr) = measure(&[&path("dxf/tube.dxf"), "--all"]);
     assert_eq!(code, 0, "{stderr}");
     // The core columns keep their order; the plastic tier follows them.
-    let core = header.len() - 12;
+    let core = header_core_len(&header);
     assert_eq!(
-        &header[core..],
+        &header[core..core + 12],
         [
             "pna_x_mm",
             "pna_y_mm",
@@ -442,9 +442,10 @@ fn all_adds_the_plastic_columns_with_their_units() {
     assert_close!(r.f("plastic_1_mm3"), wpl, rel = CSV_REL);
     assert_close!(r.f("shape_x"), wpl / r.f("wx_top_mm3"), rel = CSV_REL);
     assert_close!(r.f("pna_x_mm"), 0.0, abs = 1e-9);
-    // --plastic alone gives the same columns; --units in turns mm3 into in3 (25.4 mm/in).
+    // --plastic alone gives the same columns, without the extrusion tier; --units in turns
+    // mm3 into in3 (25.4 mm/in).
     let (_, header_p, _, _) = measure(&[&path("dxf/tube.dxf"), "--plastic"]);
-    assert_eq!(header_p, header);
+    assert_eq!(header_p[..], header[..core + 12]);
     let (_, header_in, rows_in, _) = measure(&[&path("dxf/tube.dxf"), "--all", "--units", "in"]);
     assert!(header_in.iter().any(|h| h == "plastic_x_in3"));
     assert!(header_in.iter().any(|h| h == "pna_y_in"));
@@ -454,4 +455,133 @@ fn all_adds_the_plastic_columns_with_their_units() {
         rel = CSV_REL
     );
     assert_close!(rows_in[0].f("shape_y"), r.f("shape_y"), rel = CSV_REL);
+}
+
+/// The number of columns before the first optional tier.
+fn header_core_len(header: &[String]) -> usize {
+    header
+        .iter()
+        .position(|h| h == "mass_kg_per_m")
+        .expect("mass column")
+        + 1
+}
+
+/// The extrusion tier's columns in mm, in their order.
+const EXTRUSION_MM: [&str; 16] = [
+    "circumscribed_diameter_mm",
+    "circumscribed_cx_mm",
+    "circumscribed_cy_mm",
+    "thinnest_wall_mm",
+    "thinnest_wall_x1_mm",
+    "thinnest_wall_y1_mm",
+    "thinnest_wall_x2_mm",
+    "thinnest_wall_y2_mm",
+    "thickest_section_mm",
+    "hollows",
+    "perimeter_inner_mm",
+    "surface_outer_m2_per_m",
+    "surface_inner_m2_per_m",
+    "surface_m2_per_m",
+    "outline_cx_mm",
+    "outline_cy_mm",
+];
+
+#[test]
+fn all_adds_the_extrusion_columns_after_the_plastic_ones() {
+    let (code, header, rows, stderr) = measure(&[&path("dxf/tube.dxf"), "--all"]);
+    assert_eq!(code, 0, "{stderr}");
+    let core = header_core_len(&header);
+    assert_eq!(header.len(), core + 12 + 16);
+    assert_eq!(&header[core + 12..], EXTRUSION_MM);
+    for col in [
+        "circumscribed_diameter_mm",
+        "thinnest_wall_mm",
+        "mass_kg_per_m",
+    ] {
+        assert!(header.iter().any(|h| h == col), "{col}");
+    }
+    let r = &rows[0];
+    // Tube D = 50, d = 44 (fixtures/README.md): circumscribing circle D, wall (D − d)/2,
+    // perimeters πD and πd, surface per metre = perimeter in metres (closed forms).
+    assert_close!(r.f("circumscribed_diameter_mm"), 50.0, rel = CSV_REL);
+    assert_close!(r.f("thinnest_wall_mm"), 3.0, rel = CSV_REL);
+    assert_close!(r.f("thickest_section_mm"), 3.0, rel = 1e-9);
+    assert_eq!(r.f("hollows"), 1.0);
+    assert_close!(r.f("perimeter_inner_mm"), PI * 44.0, rel = CSV_REL);
+    assert_close!(r.f("surface_outer_m2_per_m"), PI * 50.0e-3, rel = CSV_REL);
+    assert_close!(r.f("surface_inner_m2_per_m"), PI * 44.0e-3, rel = CSV_REL);
+    assert_close!(
+        r.f("surface_m2_per_m"),
+        r.f("perimeter_mm") * 1e-3,
+        rel = CSV_REL
+    );
+    // Concentric circles: both centres are the centroid (symmetry).
+    assert_close!(r.f("outline_cx_mm"), r.f("cx_mm"), abs = 1e-9);
+    assert_close!(r.f("circumscribed_cx_mm"), r.f("cx_mm"), abs = 1e-9);
+    // --extrusion alone: the core columns and this tier, no plastic ones.
+    let (_, header_x, rows_x, _) = measure(&[&path("dxf/tube.dxf"), "--extrusion"]);
+    assert_eq!(header_x[..core], header[..core]);
+    assert_eq!(&header_x[core..], EXTRUSION_MM);
+    assert_eq!(rows_x[0].s("thinnest_wall_mm"), r.s("thinnest_wall_mm"));
+    // --units in: lengths in inches (25.4 mm/in), surfaces stay in m²/m.
+    let (_, header_in, rows_in, _) = measure(&[&path("dxf/tube.dxf"), "--all", "--units", "in"]);
+    for col in [
+        "circumscribed_diameter_in",
+        "thinnest_wall_in",
+        "outline_cy_in",
+        "perimeter_inner_in",
+    ] {
+        assert!(header_in.iter().any(|h| h == col), "{col} in {header_in:?}");
+    }
+    assert!(!header_in.iter().any(|h| h.ends_with("_mm")));
+    let q = &rows_in[0];
+    assert_close!(q.f("circumscribed_diameter_in"), 50.0 / 25.4, rel = CSV_REL);
+    assert_close!(q.f("thinnest_wall_in"), 3.0 / 25.4, rel = CSV_REL);
+    assert_eq!(q.s("surface_m2_per_m"), r.s("surface_m2_per_m"));
+    assert_eq!(q.s("mass_kg_per_m"), r.s("mass_kg_per_m"));
+}
+
+#[test]
+fn named_materials_set_the_density() {
+    let (code, _, rows, stderr) = measure(&[&path("dxf/tube.dxf"), "--material", "steel"]);
+    assert_eq!(code, 0, "{stderr}");
+    let area = rows[0].f("area_mm2");
+    // Steel 7850 kg/m³ (EN 10219 tables basis, EN 1991-1-1 Table A.4; check-values §5).
+    assert_close!(rows[0].f("mass_kg_per_m"), area * 7850e-6, rel = CSV_REL);
+    // Case-insensitive, and the US spelling of aluminium: 2700 kg/m³ (EN 1999-1-1 §3.2.5;
+    // check-values §5).
+    for (name, density) in [
+        ("STEEL", 7850.0),
+        ("Aluminum", 2700.0),
+        ("aluminium", 2700.0),
+        // Austenitic stainless 7900 kg/m³ (EN 10088-1, from memory).
+        ("stainless", 7900.0),
+        // Rigid PVC about 1400 kg/m³ (common practice).
+        ("pvc", 1400.0),
+    ] {
+        let (code, _, rows, stderr) = measure(&[&path("dxf/tube.dxf"), "--material", name]);
+        assert_eq!(code, 0, "{name}: {stderr}");
+        assert_close!(
+            rows[0].f("mass_kg_per_m"),
+            area * density * 1e-6,
+            rel = CSV_REL
+        );
+    }
+    // A material and a density together are a usage error; an unknown name too.
+    let out = run(&[
+        "measure",
+        &path("dxf/tube.dxf"),
+        "--material",
+        "steel",
+        "--density",
+        "7000",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = run(&[
+        "measure",
+        &path("dxf/tube.dxf"),
+        "--material",
+        "unobtainium",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
 }

@@ -83,6 +83,33 @@ pub struct ExplainArgs {
     pub svg_scale: Option<f64>,
 }
 
+/// Named materials and their densities (see [`MaterialArg::density_kg_m3`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum MaterialArg {
+    #[value(alias = "aluminum")]
+    Aluminium,
+    Steel,
+    Stainless,
+    Pvc,
+}
+
+impl MaterialArg {
+    /// Density in kg/m³:
+    /// - aluminium 2700: EN 1999-1-1 §3.2.5, design value for all alloys;
+    /// - steel 7850: EN 10219 tables basis, EN 1991-1-1 Table A.4 (77.0–78.5 kN/m³);
+    /// - stainless 7900: EN 10088-1 for austenitic grades such as 1.4301 (from memory;
+    ///   ferritic grades are about 7700);
+    /// - PVC 1400: rigid (unplasticised) PVC, 1350–1450 (common practice).
+    pub fn density_kg_m3(self) -> f64 {
+        match self {
+            MaterialArg::Aluminium => 2700.0,
+            MaterialArg::Steel => 7850.0,
+            MaterialArg::Stainless => 7900.0,
+            MaterialArg::Pvc => 1400.0,
+        }
+    }
+}
+
 /// Output and assumed length units.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum UnitArg {
@@ -143,13 +170,27 @@ pub struct MeasureArgs {
     #[arg(long)]
     pub plastic: bool,
 
-    /// Compute every optional tier of properties (today: --plastic; later tiers will join it). Their columns come after the core ones, in a fixed order.
+    /// Also compute the extruder's figures: circumscribing circle (circumscribed_diameter, its centre), thinnest wall with its two ends, thickest section (largest inscribed circle), hollows, inner perimeter, surface per metre in m2/m (outer, inner, whole) and the outline's own centroid (outline_cx, outline_cy). Columns added after the plastic ones.
+    #[arg(long)]
+    pub extrusion: bool,
+
+    /// Compute every optional tier of properties (today: --plastic and --extrusion; later tiers will join them). Their columns come after the core ones, in a fixed order.
     #[arg(long)]
     pub all: bool,
 
-    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1); steel is 7850.
+    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1); steel is 7850. Cannot be given with --material.
     #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
     pub density: f64,
+
+    /// Named material for mass_kg_per_m, case-insensitive: aluminium (2700 kg/m³, EN 1999-1-1), steel (7850, EN 1993-1-1 tables basis), stainless (7900, EN 10088-1 austenitic grades), pvc (1400, common practice for rigid PVC). Cannot be given with --density.
+    #[arg(
+        long,
+        value_enum,
+        ignore_case = true,
+        conflicts_with = "density",
+        value_name = "NAME"
+    )]
+    pub material: Option<MaterialArg>,
 
     /// Number of files processed in parallel (default: one per core). The output is the same for any value.
     #[arg(short = 'j', long, value_name = "N")]

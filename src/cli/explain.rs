@@ -40,6 +40,7 @@ pub(super) fn explain(args: ExplainArgs) -> anyhow::Result<i32> {
         merge: false,
         assume_units: unit(args.assume_units),
         plastic: false,
+        extrusion: false,
     };
     let explanation = explain_drawing(&bytes, &settings);
     let stdout = std::io::stdout();

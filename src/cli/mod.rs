@@ -77,6 +77,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     } else {
         Tiers {
             plastic: args.plastic,
+            extrusion: args.extrusion,
         }
     };
     let settings = Settings {
@@ -92,12 +93,13 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         merge: args.merge,
         assume_units: unit(args.assume_units),
         plastic: tiers.plastic,
+        extrusion: tiers.extrusion,
     };
     let format = CsvFormat {
         unit: unit(args.units),
         delimiter,
         decimal_comma: args.decimal_comma,
-        density_kg_m3: args.density,
+        density_kg_m3: args.material.map_or(args.density, |m| m.density_kg_m3()),
         tiers,
     };
     let batch = batch::run_batch(&files, &settings, args.jobs, |rows| {

@@ -76,20 +76,49 @@ const PLASTIC: &[(&str, Dim)] = &[
     ("shape_2", Dim::None),
 ];
 
+/// The extruder's tier (`--extrusion`, or `--all`), after the plastic one: the
+/// circumscribing circle (diameter and centre), the thinnest wall with its two ends, the
+/// thickest section (diameter of the largest inscribed circle), the number of hollows, the
+/// inner perimeter, the surface per metre of length (outer, inner, whole; m²/m whatever the
+/// length unit, so `Dim::None`), and the centroid of the outline taken as a line.
+const EXTRUSION: &[(&str, Dim)] = &[
+    ("circumscribed_diameter", Dim::L(1)),
+    ("circumscribed_cx", Dim::L(1)),
+    ("circumscribed_cy", Dim::L(1)),
+    ("thinnest_wall", Dim::L(1)),
+    ("thinnest_wall_x1", Dim::L(1)),
+    ("thinnest_wall_y1", Dim::L(1)),
+    ("thinnest_wall_x2", Dim::L(1)),
+    ("thinnest_wall_y2", Dim::L(1)),
+    ("thickest_section", Dim::L(1)),
+    ("hollows", Dim::None),
+    ("perimeter_inner", Dim::L(1)),
+    ("surface_outer_m2_per_m", Dim::None),
+    ("surface_inner_m2_per_m", Dim::None),
+    ("surface_m2_per_m", Dim::None),
+    ("outline_cx", Dim::L(1)),
+    ("outline_cy", Dim::L(1)),
+];
+
 /// Which optional tiers of columns a report carries; each tier comes after the core
 /// columns and those of the tiers before it, so the column order never changes.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct Tiers {
     pub plastic: bool,
+    pub extrusion: bool,
 }
 
 impl Tiers {
     /// Every tier, present and future (`--all`).
-    pub const ALL: Tiers = Tiers { plastic: true };
+    pub const ALL: Tiers = Tiers {
+        plastic: true,
+        extrusion: true,
+    };
 
     fn columns(self) -> impl Iterator<Item = &'static (&'static str, Dim)> {
         let plastic: &[(&str, Dim)] = if self.plastic { PLASTIC } else { &[] };
-        NUMERIC.iter().chain(plastic)
+        let extrusion: &[(&str, Dim)] = if self.extrusion { EXTRUSION } else { &[] };
+        NUMERIC.iter().chain(plastic).chain(extrusion)
     }
 
     /// How many numeric columns a row has.
@@ -122,8 +151,8 @@ pub fn header(unit: LengthUnit, tiers: Tiers) -> Vec<String> {
 }
 
 /// Numeric values of a row in the column order of the header, converted from millimetres
-/// to `unit`; `None` for an error row. Plastic values that were not computed are NaN (empty
-/// fields).
+/// to `unit`; `None` for an error row. Values of a tier that were not computed are NaN
+/// (empty fields).
 pub fn numeric_values(
     o: &Outcome,
     unit: LengthUnit,
@@ -177,6 +206,29 @@ pub fn numeric_values(
                 q.shape_2,
             ]),
             None => raw.extend([f64::NAN; PLASTIC.len()]),
+        }
+    }
+    if tiers.extrusion {
+        match &p.extrusion {
+            Some(x) => raw.extend([
+                x.circumscribed_diameter,
+                x.circumscribed_center.x,
+                x.circumscribed_center.y,
+                x.thinnest_wall,
+                x.thinnest_wall_from.x,
+                x.thinnest_wall_from.y,
+                x.thinnest_wall_to.x,
+                x.thinnest_wall_to.y,
+                x.thickest_section,
+                x.hollows as f64,
+                x.perimeter_inner,
+                x.surface_outer(),
+                x.surface_inner(),
+                x.surface(),
+                x.outline_centroid.x,
+                x.outline_centroid.y,
+            ]),
+            None => raw.extend([f64::NAN; EXTRUSION.len()]),
         }
     }
     Some(

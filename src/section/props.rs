@@ -1,6 +1,6 @@
 //! Geometric section properties of one profile (or of several merged into one section).
 
-use super::PlasticProps;
+use super::{ExtrusionProps, PlasticProps};
 use crate::geom::{BBox, Moments, Point, Profile};
 
 /// Properties of a cross-section, in millimetres. Axes and signs:
@@ -44,6 +44,8 @@ pub struct SectionProps {
     pub r2: f64,
     /// Plastic properties, when asked for ([`super::plastic_props`]).
     pub plastic: Option<PlasticProps>,
+    /// The extruder's figures, when asked for ([`super::extrusion_props`]).
+    pub extrusion: Option<ExtrusionProps>,
 }
 
 /// Principal second moments and the angle of the major axis, from centroidal ixx, iyy, ixy.
@@ -113,5 +115,6 @@ pub fn section_props(profiles: &[&Profile]) -> SectionProps {
         r1: gyr(i1),
         r2: gyr(i2),
         plastic: None,
+        extrusion: None,
     }
 }
