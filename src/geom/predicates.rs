@@ -391,18 +391,49 @@ impl<'a> SlabIndex<'a> {
     }
 }
 
+/// The point of the line a → b nearest `p` (the foot of the perpendicular, clamped to the
+/// ends).
+fn nearest_on_line(a: Point, b: Point, p: Point) -> Point {
+    let d = b - a;
+    let len2 = d.dot(d);
+    let t = if len2 > 0.0 {
+        ((p - a).dot(d) / len2).clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
+    a + d * t
+}
+
+/// The point of the segment nearest `p` (for a curve piece, of its chord).
+pub fn closest_point(s: &Segment, p: Point) -> Point {
+    match s {
+        Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
+            nearest_on_line(*a, *b, p)
+        }
+        Segment::Arc(arc) => {
+            let end = if p.dist(arc.start) <= p.dist(arc.end) {
+                arc.start
+            } else {
+                arc.end
+            };
+            let v = p - arc.center;
+            let n = v.norm();
+            if n > 0.0 {
+                let w = arc.center + v * (arc.radius / n);
+                if arc.holds_circle_point(w) && w.dist(p) < end.dist(p) {
+                    return w;
+                }
+            }
+            end
+        }
+    }
+}
+
 /// Distance from `p` to the segment.
 pub fn distance_to(s: &Segment, p: Point) -> f64 {
     match s {
         Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
-            let d = *b - *a;
-            let len2 = d.dot(d);
-            let t = if len2 > 0.0 {
-                ((p - *a).dot(d) / len2).clamp(0.0, 1.0)
-            } else {
-                0.0
-            };
-            p.dist(*a + d * t)
+            p.dist(nearest_on_line(*a, *b, p))
         }
         Segment::Arc(arc) => {
             // The nearest point of the circle if it lies on the arc, else the nearer end.

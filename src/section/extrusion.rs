@@ -52,7 +52,7 @@ use std::cmp::Ordering;
 use std::collections::BinaryHeap;
 use std::f64::consts::SQRT_2;
 
-use crate::geom::predicates::SlabIndex;
+use crate::geom::predicates::{closest_point, SlabIndex};
 use crate::geom::{Arc, BBox, CurvePiece, CurveTable, Point, Profile, Segment};
 
 /// Largest angle, in degrees, between the ray into the material and the boundary's outward
@@ -706,38 +706,6 @@ fn ray_segment(p: Point, dir: Point, s: &Segment, t_min: f64) -> Option<(f64, Po
                 .filter(|&t| t > t_min)
                 .map(|t| (t, p + dir * t))
                 .find(|&(_, w)| arc.holds_circle_point(w))
-        }
-    }
-}
-
-/// The point of the segment nearest `p` (a curve piece's chord's).
-fn closest_point(s: &Segment, p: Point) -> Point {
-    match s {
-        Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
-            let d = *b - *a;
-            let len2 = d.dot(d);
-            let t = if len2 > 0.0 {
-                ((p - *a).dot(d) / len2).clamp(0.0, 1.0)
-            } else {
-                0.0
-            };
-            *a + d * t
-        }
-        Segment::Arc(arc) => {
-            let end = if p.dist(arc.start) <= p.dist(arc.end) {
-                arc.start
-            } else {
-                arc.end
-            };
-            let v = p - arc.center;
-            let n = v.norm();
-            if n > 0.0 {
-                let w = arc.center + v * (arc.radius / n);
-                if arc.holds_circle_point(w) && w.dist(p) < end.dist(p) {
-                    return w;
-                }
-            }
-            end
         }
     }
 }
