@@ -47,12 +47,9 @@ Safety: the results are geometric properties of the outline as drawn. They are n
 check. Member design follows the applicable code and is signed off by a qualified engineer.";
 
 /// The reading options of `explain`: the same flags, help and defaults as `measure`'s.
+/// How drawings are read: the options `measure` and `explain` share.
 #[derive(Debug, clap::Args)]
-pub struct ExplainArgs {
-    /// The DXF or SVG file to explain.
-    #[arg(value_name = "FILE")]
-    pub file: PathBuf,
-
+pub struct ReadArgs {
     /// Unit of drawings that declare none ($INSUNITS missing or 0). Unitless extrusion drawings are almost always millimetres.
     #[arg(long, value_enum, default_value = "mm", value_name = "UNIT")]
     pub assume_units: UnitArg,
@@ -74,13 +71,23 @@ pub struct ExplainArgs {
     pub hatch_outlines: bool,
 
     /// Largest gap in millimetres closed when chaining loose entities into loops.
-    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. The report shows how it was chosen.
+    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. Larger gaps are reported, never closed silently; `explain` shows how the gap was chosen.
     #[arg(long, value_name = "MM")]
     pub gap: Option<f64>,
 
     /// Millimetres per SVG user unit, overriding the page size (width, height) and viewBox of SVG files. Default: from the page size; 1 px = 25.4/96 mm when the file gives none (the row says so).
     #[arg(long, value_name = "MM_PER_UNIT", value_parser = positive_scale)]
     pub svg_scale: Option<f64>,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ExplainArgs {
+    /// The DXF or SVG file to explain.
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+
+    #[command(flatten)]
+    pub read: ReadArgs,
 }
 
 /// Named materials and their densities (see [`MaterialArg::density_kg_m3`]).
@@ -133,34 +140,8 @@ pub struct MeasureArgs {
     #[arg(long, value_enum, default_value = "mm")]
     pub units: UnitArg,
 
-    /// Unit of drawings that declare none ($INSUNITS missing or 0). Unitless extrusion drawings are almost always millimetres.
-    #[arg(long, value_enum, default_value = "mm", value_name = "UNIT")]
-    pub assume_units: UnitArg,
-
-    /// Only read entities on layers matching GLOB (* and ?, case-insensitive); repeatable.
-    #[arg(long, value_name = "GLOB")]
-    pub layer: Vec<String>,
-
-    /// Skip entities on layers matching GLOB; repeatable.
-    #[arg(long, value_name = "GLOB")]
-    pub exclude_layer: Vec<String>,
-
-    /// Also read layers that are switched off or frozen (skipped by default).
-    #[arg(long)]
-    pub include_hidden_layers: bool,
-
-    /// Also take outlines from the boundary paths of hatches (section drawings often carry the section only as a hatch). Skipped and counted by default.
-    #[arg(long)]
-    pub hatch_outlines: bool,
-
-    /// Largest gap in millimetres closed when chaining loose entities into loops.
-    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. Larger gaps are reported, never closed silently.
-    #[arg(long, value_name = "MM")]
-    pub gap: Option<f64>,
-
-    /// Millimetres per SVG user unit, overriding the page size (width, height) and viewBox of SVG files. Default: from the page size; 1 px = 25.4/96 mm when the file gives none (the row says so).
-    #[arg(long, value_name = "MM_PER_UNIT", value_parser = positive_scale)]
-    pub svg_scale: Option<f64>,
+    #[command(flatten)]
+    pub read: ReadArgs,
 
     /// Measure all profiles of a file as one section (a built-up or multi-part section).
     #[arg(long)]

@@ -15,7 +15,7 @@ use anyhow::{bail, Context};
 use crate::analyze::Settings;
 use crate::import::{LengthUnit, ReadOptions};
 use crate::report::{csv_header, csv_records, CsvFormat, Tiers};
-use args::{Cli, Command, MeasureArgs, UnitArg};
+use args::{Cli, Command, MeasureArgs, ReadArgs, UnitArg};
 
 /// Exit status: every profile measured.
 pub const EXIT_OK: i32 = 0;
@@ -57,17 +57,38 @@ fn parse_delimiter(d: Option<&str>, decimal_comma: bool) -> anyhow::Result<u8> {
     Ok(byte)
 }
 
+/// The reading settings `measure` and `explain` share, from their common options (`census`:
+/// keep the layer table and entity counts, for `explain`). A bad `--gap` is a usage error.
+fn read_settings(read: &ReadArgs, census: bool) -> anyhow::Result<Settings> {
+    if let Some(g) = read.gap {
+        if !(g.is_finite() && g >= 0.0) {
+            bail!("--gap must be a length of zero or more millimetres");
+        }
+    }
+    Ok(Settings {
+        read: ReadOptions {
+            layers: read.layer.clone(),
+            exclude_layers: read.exclude_layer.clone(),
+            include_hidden_layers: read.include_hidden_layers,
+            hatch_outlines: read.hatch_outlines,
+            census,
+            svg_mm_per_unit: read.svg_scale,
+        },
+        join_gap: read.gap,
+        merge: false,
+        assume_units: unit(read.assume_units),
+        plastic: false,
+        extrusion: false,
+    })
+}
+
 fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     let started = Instant::now();
     let delimiter = parse_delimiter(args.delimiter.as_deref(), args.decimal_comma)?;
     if !(args.density.is_finite() && args.density > 0.0) {
         bail!("--density must be a positive number of kg/m³");
     }
-    if let Some(g) = args.gap {
-        if !(g.is_finite() && g >= 0.0) {
-            bail!("--gap must be a length of zero or more millimetres");
-        }
-    }
+    let read = read_settings(&args.read, false)?;
     let files = batch::collect_files(&args.paths)?;
     if files.is_empty() {
         bail!("no .dxf or .svg files found in the given paths");
@@ -81,19 +102,10 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         }
     };
     let settings = Settings {
-        read: ReadOptions {
-            layers: args.layer.clone(),
-            exclude_layers: args.exclude_layer.clone(),
-            include_hidden_layers: args.include_hidden_layers,
-            hatch_outlines: args.hatch_outlines,
-            census: false,
-            svg_mm_per_unit: args.svg_scale,
-        },
-        join_gap: args.gap,
         merge: args.merge,
-        assume_units: unit(args.assume_units),
         plastic: tiers.plastic,
         extrusion: tiers.extrusion,
+        ..read
     };
     let format = CsvFormat {
         unit: unit(args.units),
