@@ -298,37 +298,6 @@ fn solid_rectangle_and_circle() {
     assert_close!(x.circumscribed_diameter, d, rel = 1e-12);
 }
 
-/// An I-section h × b, web tw, flanges tf, root fillets r drawn as arcs, centred at (0, 0).
-fn i_section(h: f64, b: f64, tw: f64, tf: f64, r: f64) -> Vec<Segment> {
-    let (yb, yt) = (-h / 2.0 + tf, h / 2.0 - tf);
-    let (xw, xf) = (tw / 2.0, b / 2.0);
-    // Concave corners of a counter-clockwise outline turn clockwise: bulge −tan(90°/4).
-    let f = -(PI / 8.0).tan();
-    poly(
-        &[
-            (-xf, -h / 2.0),
-            (xf, -h / 2.0),
-            (xf, yb),
-            (xw + r, yb),
-            (xw, yb + r),
-            (xw, yt - r),
-            (xw + r, yt),
-            (xf, yt),
-            (xf, h / 2.0),
-            (-xf, h / 2.0),
-            (-xf, yt),
-            (-xw - r, yt),
-            (-xw, yt - r),
-            (-xw, yb + r),
-            (-xw - r, yb),
-            (-xf, yb),
-        ],
-        &[
-            0.0, 0.0, 0.0, f, 0.0, f, 0.0, 0.0, 0.0, 0.0, 0.0, f, 0.0, f, 0.0, 0.0,
-        ],
-    )
-}
-
 #[test]
 fn ipe_300_mass_per_metre_against_the_section_table() {
     // IPE 300 (h 300, b 150, tw 7.1, tf 10.7, r 15): G = 42.2 kg/m at 7850 kg/m³ (European

@@ -86,6 +86,37 @@ pub fn poly(pts: &[(f64, f64)], bulges: &[f64]) -> Vec<Segment> {
         .collect()
 }
 
+/// An I-section h × b, web tw, flanges tf, root fillets r drawn as arcs, centred at (0, 0).
+pub fn i_section(h: f64, b: f64, tw: f64, tf: f64, r: f64) -> Vec<Segment> {
+    let (yb, yt) = (-h / 2.0 + tf, h / 2.0 - tf);
+    let (xw, xf) = (tw / 2.0, b / 2.0);
+    // Concave corners of a counter-clockwise outline turn clockwise: bulge −tan(90°/4).
+    let f = -(std::f64::consts::PI / 8.0).tan();
+    poly(
+        &[
+            (-xf, -h / 2.0),
+            (xf, -h / 2.0),
+            (xf, yb),
+            (xw + r, yb),
+            (xw, yb + r),
+            (xw, yt - r),
+            (xw + r, yt),
+            (xf, yt),
+            (xf, h / 2.0),
+            (-xf, h / 2.0),
+            (-xf, yt),
+            (-xw - r, yt),
+            (-xw, yt - r),
+            (-xw, yb + r),
+            (-xw - r, yb),
+            (-xf, yb),
+        ],
+        &[
+            0.0, 0.0, 0.0, f, 0.0, f, 0.0, 0.0, 0.0, 0.0, 0.0, f, 0.0, f, 0.0, 0.0,
+        ],
+    )
+}
+
 pub fn rect(x0: f64, y0: f64, w: f64, h: f64) -> Vec<Segment> {
     poly(
         &[(x0, y0), (x0 + w, y0), (x0 + w, y0 + h), (x0, y0 + h)],
