@@ -166,6 +166,19 @@ fn series(coeffs: &[f64], x: f64) -> f64 {
     coeffs.iter().rev().fold(0.0, |acc, &c| acc * x + c)
 }
 
+/// The unit vector from an arc's chord towards the arc (the direction of its sagitta). For
+/// arcs up to a half circle the chord is long enough to give it precisely (a
+/// counter-clockwise arc lies to the right of its chord); beyond, the mid-angle does.
+pub(crate) fn towards_arc(arc: &Arc) -> Point {
+    if arc.sweep.abs() <= PI {
+        let chord = arc.end - arc.start;
+        let d = chord * (1.0 / chord.norm());
+        Point::new(d.y, -d.x) * arc.sweep.signum()
+    } else {
+        rotated(arc.start - arc.center, arc.sweep / 2.0) * (1.0 / arc.radius)
+    }
+}
+
 /// Green's-theorem contribution of a circular arc, about `origin`.
 ///
 /// Chord start→end as a straight edge, plus the circular segment between chord and arc,
@@ -190,16 +203,7 @@ pub fn arc_moments(arc: &Arc, origin: Point) -> Moments {
     let p = arc.start - origin;
     let q = arc.end - origin;
     let alpha = arc.sweep.abs() / 2.0;
-    // Unit vector from the chord towards the arc. For arcs up to a half circle the chord is
-    // long enough to give it precisely; beyond, the mid-angle does.
-    let ev = if alpha <= PI / 2.0 {
-        let chord = q - p;
-        let d = chord * (1.0 / chord.norm());
-        // A counter-clockwise arc lies to the right of its chord.
-        Point::new(d.y, -d.x) * sign
-    } else {
-        rotated(arc.start - arc.center, arc.sweep / 2.0) * (1.0 / r)
-    };
+    let ev = towards_arc(arc);
     let eu = Point::new(-ev.y, ev.x);
     let m = (p + q) * 0.5;
     let [ua, uv1, uu2, uv2] = unit_segment_integrals(alpha);

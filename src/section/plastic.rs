@@ -32,8 +32,8 @@
 //! This module does no I/O. All lengths are millimetres.
 
 use crate::geom::curve::{Affine, Curve};
-use crate::geom::moments::{line_moments, unit_segment_integrals};
-use crate::geom::segment::{rotated, wrap_tau};
+use crate::geom::moments::{line_moments, towards_arc, unit_segment_integrals};
+use crate::geom::segment::wrap_tau;
 use crate::geom::{Arc, CurveTable, Point, Profile, Segment};
 use crate::section::SectionProps;
 use std::f64::consts::PI;
@@ -331,14 +331,7 @@ fn arc_g(arc: &Arc) -> [f64; 3] {
     }
     let (p, q) = (arc.start, arc.end);
     let alpha = arc.sweep.abs() / 2.0;
-    // Unit vector from the chord towards the arc (as in `arc_moments`).
-    let ev = if alpha <= PI / 2.0 {
-        let chord = q - p;
-        let d = chord * (1.0 / chord.norm());
-        Point::new(d.y, -d.x) * sign
-    } else {
-        rotated(arc.start - arc.center, arc.sweep / 2.0) * (1.0 / r)
-    };
+    let ev = towards_arc(arc);
     let [ua, uv1, _, _] = unit_segment_integrals(alpha);
     let area = ua * r * r;
     let first = 0.5 * (p.y + q.y) * area + ev.y * uv1 * r * r * r;
