@@ -322,19 +322,57 @@ fn an_island_in_a_hole_under_nonzero() {
 }
 
 #[test]
-fn self_overlapping_subpaths_are_error_rows_under_both_rules() {
-    // FIXME: two overlapping squares in one path would need the union (nonzero) or the
-    // symmetric difference (evenodd) of the areas; today the crossing is reported instead.
-    for rule in ["nonzero", "evenodd"] {
+fn self_overlapping_subpaths_follow_the_fill_rule() {
+    // Two 40 × 40 squares overlapping in a 20 × 20 corner, in one path (arithmetic):
+    // nonzero fills their union, 2·1600 − 400 = 2800 user units²; evenodd leaves the overlap
+    // out, 2400 (SVG 1.1 §11.3, fill-rule). 1 user unit = 1 mm here.
+    for (rule, want) in [("nonzero", 2800.0), ("evenodd", 2400.0)] {
         let rows = measure(&svg(&format!(
             r#"<path fill-rule="{rule}" d="M 10 10 L 50 10 L 50 50 L 10 50 Z M 30 30 L 70 30 L 70 70 L 30 70 Z"/>"#
         )));
-        assert!(!rows.is_empty());
-        for r in &rows {
-            let e = r.result.clone().expect_err("error row");
-            assert!(e.contains("cross"), "{e}");
-        }
+        let total: f64 = rows
+            .iter()
+            .map(|r| r.result.as_ref().expect("measured").area)
+            .sum();
+        assert_close!(total, want, rel = 1e-12);
+        assert!(
+            rows[0].message.contains("taken by its fill rule"),
+            "{}",
+            rows[0].message
+        );
     }
+    // A pentagram in one subpath: evenodd leaves the inner pentagon out, nonzero fills it;
+    // they differ by that pentagon, circumradius ρ = R·cos(2π/5)/cos(π/5), area
+    // (5/2)ρ²·sin(2π/5) (regular pentagram and polygon, from memory).
+    let r = 40.0;
+    let pts: Vec<String> = (0..5)
+        .map(|k| {
+            let a = std::f64::consts::PI / 2.0 + 4.0 * std::f64::consts::PI * k as f64 / 5.0;
+            format!("{} {}", 50.0 + r * a.cos(), 50.0 - r * a.sin())
+        })
+        .collect();
+    let area_of = |rule: &str| -> f64 {
+        measure(&svg(&format!(
+            r#"<path fill-rule="{rule}" d="M {} Z"/>"#,
+            pts.join(" L ")
+        )))
+        .iter()
+        .map(|r| r.result.as_ref().expect("measured").area)
+        .sum()
+    };
+    let rho = r * (0.4 * std::f64::consts::PI).cos() / (0.2 * std::f64::consts::PI).cos();
+    let pentagon = 2.5 * rho * rho * (0.4 * std::f64::consts::PI).sin();
+    assert_close!(
+        area_of("nonzero") - area_of("evenodd"),
+        pentagon,
+        rel = 1e-9
+    );
+    // Drawn with a stroke only, the same crossing squares stay an error: an outline must not
+    // cross itself.
+    let rows = measure(&svg(
+        r#"<path fill="none" stroke="black" d="M 10 10 L 50 10 L 50 50 L 10 50 Z M 30 30 L 70 30 L 70 70 L 30 70 Z"/>"#,
+    ));
+    assert!(rows.iter().all(|r| r.result.is_err()), "{rows:#?}");
 }
 
 #[test]

@@ -11,6 +11,7 @@
 pub mod chain;
 pub mod curve;
 pub mod curve_pieces;
+pub mod fill;
 pub mod moments;
 pub mod nest;
 pub mod predicates;

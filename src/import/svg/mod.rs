@@ -53,6 +53,7 @@ use super::{
     ReadOptions, SourceUnits,
 };
 use crate::geom::curve::Affine;
+use crate::geom::fill::filled_boundary;
 use crate::geom::moments::loop_moments;
 use crate::geom::predicates::winding_number;
 use crate::geom::{BBox, Point, Segment};
@@ -707,7 +708,21 @@ impl<'a, 'input> Reader<'a, 'input> {
             .filter(|(segs, _)| !segs.is_empty())
             .collect();
         let n_closed = pieces.iter().filter(|p| p.1).count();
-        if style.filled && !style.evenodd && n_closed >= 2 {
+        // Filled subpaths that cross each other or themselves: the outline of what the fill
+        // rule fills (`geom::fill`), not the subpaths themselves.
+        let resolved = if style.filled && n_closed == pieces.len() {
+            let subpaths: Vec<Vec<Segment>> = pieces.iter().map(|p| p.0.clone()).collect();
+            filled_boundary(&subpaths, style.evenodd)
+        } else {
+            None
+        };
+        if let Some(loops) = resolved {
+            let rule = if style.evenodd { "evenodd" } else { "nonzero" };
+            self.note(format!(
+                "a filled path whose subpaths cross was taken by its fill rule ({rule}): its outline is the boundary of what it fills"
+            ));
+            pieces = loops.into_iter().map(|l| (l, true)).collect();
+        } else if style.filled && !style.evenodd && n_closed >= 2 {
             let dropped = self.nonzero_inner(&mut pieces);
             if dropped > 0 {
                 self.note(format!(
