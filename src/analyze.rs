@@ -2,7 +2,9 @@
 
 use std::collections::BTreeMap;
 
-use crate::geom::{chain, drop_crossing_loops, nest, BBox, CurvePiece, Profile, Segment};
+use crate::geom::{
+    chain, drop_crossing_loops, nest, BBox, CurvePiece, LoopProblem, Profile, Segment,
+};
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
 
@@ -126,6 +128,13 @@ fn file_row(units: &str, msg: String) -> Vec<Outcome> {
     }]
 }
 
+/// Whether an open path far from closing is an error row of its own (SVG: every path is meant
+/// as an outline) rather than stray geometry skipped with a note (DXF: centre and construction
+/// lines are common). Either way it does not stop the profiles it overlaps.
+pub(crate) fn open_paths_are_errors(file: &import::FileFacts) -> bool {
+    file.svg
+}
+
 /// For a file without a closed outline: a pointer to `--hatch-outlines` when hatches were
 /// skipped (section drawings often carry the section only as a hatch), else nothing.
 pub(crate) fn hatch_hint(skipped: &BTreeMap<String, usize>) -> String {
@@ -188,6 +197,10 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     });
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
+    let strays_are_errors = open_paths_are_errors(&drawing.file);
+    if strays_are_errors {
+        problems.extend(chained.strays.iter().map(LoopProblem::open_path));
+    }
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
     let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
     let profiles = nested.profiles;
@@ -204,7 +217,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             nested.duplicate_loops
         ));
     }
-    if chained.stray_chains > 0 {
+    if chained.stray_chains > 0 && !strays_are_errors {
         notes.push(format!(
             "{} open chains ignored (not near closing: centre or construction lines?)",
             chained.stray_chains
@@ -230,7 +243,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     let blocked = |bbox: &BBox, used: &mut Vec<bool>| -> Vec<String> {
         let mut msgs = Vec::new();
         for (k, pr) in problems.iter().enumerate() {
-            if pr.bbox().overlaps(bbox, join_gap) {
+            if pr.blocks_profiles() && pr.bbox().overlaps(bbox, join_gap) {
                 used[k] = true;
                 msgs.push(pr.describe());
             }

@@ -387,6 +387,23 @@ fn an_open_path_is_chained_or_reported() {
         r#"<path fill="none" stroke="red" d="M 10 10 L 50 10 L 50 50 L 12 14"/>"#,
     ));
     assert!(rows.iter().all(|r| r.result.is_err()), "{rows:#?}");
+    // An open path far from closing beside (and across) a closed outline: its own error row
+    // naming its ends, while the outline it crosses is still measured.
+    let rows = measure(&svg(
+        r#"<rect x="10" y="10" width="40" height="20"/><path fill="none" stroke="red" d="M 0 20 L 60 20"/>"#,
+    ));
+    assert_eq!(rows.len(), 2, "{rows:#?}");
+    let ok: Vec<_> = rows.iter().filter_map(|r| r.result.as_ref().ok()).collect();
+    assert_eq!(ok.len(), 1, "{rows:#?}");
+    assert_close!(ok[0].area, 800.0, rel = 1e-12);
+    let err = rows
+        .iter()
+        .find_map(|r| r.result.as_ref().err())
+        .expect("error row");
+    assert!(
+        err.starts_with("open path:") && err.contains("60 apart"),
+        "{err}"
+    );
 }
 
 // ---------------------------------------------------------------------------------------------

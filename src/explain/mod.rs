@@ -254,6 +254,9 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
     d.gap = Some(gap);
     let chained = chain(drawing.pieces, join_gap);
     let mut problems = chained.problems;
+    if crate::analyze::open_paths_are_errors(&d.file) {
+        problems.extend(chained.strays.iter().map(LoopProblem::open_path));
+    }
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
     let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
     let profiles = nested.profiles;
@@ -274,7 +277,9 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
     for (i, p) in profiles.iter().enumerate() {
         let bbox = p.bbox();
         let blocking: Vec<usize> = (0..problems.len())
-            .filter(|&k| problems[k].bbox().overlaps(&bbox, join_gap))
+            .filter(|&k| {
+                problems[k].blocks_profiles() && problems[k].bbox().overlaps(&bbox, join_gap)
+            })
             .collect();
         for &k in &blocking {
             used[k] = true;

@@ -103,6 +103,16 @@ pub enum LoopProblem {
         origin: Origin,
         layer: LayerName,
     },
+    /// An open path of a drawing format whose paths must close (SVG), far from closing: its
+    /// own error row, which does not stop the profiles its box overlaps (a centre line drawn
+    /// across a section must not hide the section).
+    OpenPath {
+        ends: (Point, Point),
+        length: f64,
+        bbox: BBox,
+        origin: Origin,
+        layer: LayerName,
+    },
 }
 
 impl LoopProblem {
@@ -112,7 +122,26 @@ impl LoopProblem {
             | LoopProblem::Branch { bbox, .. }
             | LoopProblem::SelfIntersection { bbox, .. }
             | LoopProblem::LoopsCross { bbox, .. }
-            | LoopProblem::ZeroArea { bbox, .. } => *bbox,
+            | LoopProblem::ZeroArea { bbox, .. }
+            | LoopProblem::OpenPath { bbox, .. } => *bbox,
+        }
+    }
+
+    /// Whether the problem stops the profiles whose boxes it overlaps from being measured
+    /// (it may hide a loop of theirs); an open path far from closing cannot.
+    pub fn blocks_profiles(&self) -> bool {
+        !matches!(self, LoopProblem::OpenPath { .. })
+    }
+
+    /// The open path far from closing that a stray chain is, for formats whose paths must
+    /// close (see [`LoopProblem::OpenPath`]).
+    pub fn open_path(stray: &StrayChain) -> LoopProblem {
+        LoopProblem::OpenPath {
+            ends: stray.ends,
+            length: stray.length,
+            bbox: stray.bbox,
+            origin: stray.origin,
+            layer: stray.layer.clone(),
         }
     }
 
@@ -123,7 +152,8 @@ impl LoopProblem {
             | LoopProblem::Branch { layer, .. }
             | LoopProblem::SelfIntersection { layer, .. }
             | LoopProblem::LoopsCross { layer, .. }
-            | LoopProblem::ZeroArea { layer, .. } => layer,
+            | LoopProblem::ZeroArea { layer, .. }
+            | LoopProblem::OpenPath { layer, .. } => layer,
         }
     }
 
@@ -161,6 +191,18 @@ impl LoopProblem {
             LoopProblem::ZeroArea { origin, .. } => {
                 format!("loop starting with {origin} encloses no area")
             }
+            LoopProblem::OpenPath {
+                ends: (p, q),
+                origin,
+                ..
+            } => format!(
+                "open path: {origin} does not close, its ends ({}, {}) and ({}, {}) are {} apart (an outline must close)",
+                fmt_len(p.x),
+                fmt_len(p.y),
+                fmt_len(q.x),
+                fmt_len(q.y),
+                fmt_len(p.dist(*q))
+            ),
         }
     }
 }
@@ -196,6 +238,7 @@ pub struct Chained {
 pub struct StrayChain {
     pub ends: (Point, Point),
     pub length: f64,
+    pub bbox: BBox,
     pub segments: usize,
     pub layer: LayerName,
     /// The entity the chain starts with.
@@ -825,6 +868,7 @@ fn classify_open(open: Vec<(Vec<Segment>, usize)>, meta: &[Meta], out: &mut Chai
                 out.strays.push(StrayChain {
                     ends: (info.p, info.q),
                     length: info.length,
+                    bbox: info.bbox,
                     segments: run.len(),
                     layer: meta[info.piece].0.clone(),
                     origin: meta[info.piece].1,
