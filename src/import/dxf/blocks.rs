@@ -159,10 +159,7 @@ impl<'a> Reader<'a, '_> {
                     }
                     self.skipping_block = false;
                 }
-                ty if self.skipping_block || self.block.is_none() => {
-                    let _ = ty;
-                    self.skip_fields()?;
-                }
+                _ if self.skipping_block || self.block.is_none() => self.skip_fields()?,
                 _ => self.read_entity(at)?,
             }
         }

@@ -321,11 +321,11 @@ impl<'a> Reader<'a, '_> {
             b"SPLINE" => self.read_spline(at),
             b"INSERT" | b"MINSERT" => self.read_insert(at),
             b"HATCH" if self.opts.hatch_outlines => self.read_hatch(at),
+            // The type name borrows the file, not the reader: no copy per skipped entity.
             ty => {
-                let ty = ty.to_vec();
                 self.skip_fields()?;
                 if self.block.is_none() {
-                    self.skip(&type_reason(&ty));
+                    self.skip(&type_reason(ty));
                 }
                 Ok(())
             }
