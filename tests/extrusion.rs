@@ -10,9 +10,8 @@ use std::f64::consts::{PI, SQRT_2};
 
 use sectio::analyze::{measure_drawing, Outcome, Settings};
 use sectio::geom::curve::{Curve, EllipseArc};
-use sectio::geom::curve_pieces::curve_segments;
-use sectio::geom::{CurveTable, Point, Segment};
-use sectio::import::{Drawing, LengthUnit, Piece};
+use sectio::geom::{Point, Segment};
+use sectio::import::{LengthUnit, Piece};
 use sectio::report::{header, numeric_values, Tiers};
 use sectio::section::{ExtrusionProps, SectionProps};
 use util::*;
@@ -321,19 +320,6 @@ fn ipe_300_mass_per_metre_against_the_section_table() {
     // Thicker than the flange (the fillets widen the junction), thinner than the flange
     // plus the fillet.
     assert!(x.thickest_section > 10.7 && x.thickest_section < 10.7 + 15.0);
-}
-
-/// A drawing whose pieces are made by `curve_segments` from `curves`.
-fn curve_drawing(curves: &[Curve]) -> Drawing {
-    let mut table = CurveTable::default();
-    let pieces = curves
-        .iter()
-        .map(|c| closed(curve_segments(c, &mut table)))
-        .collect();
-    Drawing {
-        curves: table,
-        ..drawing(pieces)
-    }
 }
 
 #[test]

@@ -9,8 +9,7 @@ use std::f64::consts::PI;
 
 use sectio::analyze::{measure_drawing, Outcome, Settings};
 use sectio::geom::curve::{Curve, EllipseArc, Nurbs};
-use sectio::geom::curve_pieces::curve_segments;
-use sectio::geom::{CurveTable, Point, Segment};
+use sectio::geom::{Point, Segment};
 use sectio::import::{Drawing, Piece};
 use sectio::section::{PlasticProps, SectionProps};
 use util::*;
@@ -228,19 +227,6 @@ fn two_rectangles_merged_and_an_island() {
     // Without --merge the island is a row of its own.
     let out = run(drawing(pieces), false);
     assert_eq!(out.len(), 2);
-}
-
-/// A drawing whose pieces are made by `curve_segments` from `curves`.
-fn curve_drawing(curves: &[Curve]) -> Drawing {
-    let mut table = CurveTable::default();
-    let pieces = curves
-        .iter()
-        .map(|c| closed(curve_segments(c, &mut table)))
-        .collect();
-    Drawing {
-        curves: table,
-        ..drawing(pieces)
-    }
 }
 
 #[test]

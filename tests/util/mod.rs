@@ -139,6 +139,19 @@ pub fn drawing(pieces: Vec<Piece>) -> Drawing {
     }
 }
 
+/// A drawing whose pieces are made by `curve_segments` from `curves`.
+pub fn curve_drawing(curves: &[sectio::geom::curve::Curve]) -> Drawing {
+    let mut table = sectio::geom::CurveTable::default();
+    let pieces = curves
+        .iter()
+        .map(|c| closed(sectio::geom::curve_pieces::curve_segments(c, &mut table)))
+        .collect();
+    Drawing {
+        curves: table,
+        ..drawing(pieces)
+    }
+}
+
 pub fn measure(pieces: Vec<Piece>) -> Vec<Outcome> {
     measure_drawing(drawing(pieces), &Settings::default())
 }
