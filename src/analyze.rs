@@ -2,6 +2,7 @@
 
 use std::collections::BTreeMap;
 
+use crate::fem::{torsion_props, TorsionSettings};
 use crate::geom::{
     chain, drop_crossing_loops, nest, BBox, CurvePiece, LoopProblem, Profile, Segment,
 };
@@ -22,6 +23,9 @@ pub struct Settings {
     pub plastic: bool,
     /// Also compute the extruder's figures ([`crate::section::extrusion`]).
     pub extrusion: bool,
+    /// Also compute the torsion and warping constants and the shear centre, with these
+    /// solver settings ([`crate::fem::torsion`]).
+    pub torsion: Option<TorsionSettings>,
 }
 
 impl Default for Settings {
@@ -33,6 +37,7 @@ impl Default for Settings {
             assume_units: LengthUnit::MM,
             plastic: false,
             extrusion: false,
+            torsion: None,
         }
     }
 }
@@ -266,6 +271,26 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             match extrusion_props(ps, curve_table) {
                 Ok(x) => props.extrusion = Some(x),
                 Err(e) => failed.push(e),
+            }
+        }
+        if let Some(t) = &settings.torsion {
+            // The solver leans on two outside crates (spade, faer): a panic there must
+            // not cost the row its other columns.
+            let solved = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                torsion_props(ps, &props, t)
+            }))
+            .unwrap_or_else(|_| Err("internal error in the torsion solver".to_string()));
+            match solved {
+                Ok(x) => {
+                    if !x.converged {
+                        failed.push(format!(
+                            "torsion accuracy {:.1e} not reached (estimate {:.1e} at the cap of {} nodes)",
+                            t.accuracy, x.accuracy, t.max_nodes
+                        ));
+                    }
+                    props.torsion = Some(x);
+                }
+                Err(e) => failed.push(format!("torsion not computed: {e}")),
             }
         }
         (props, (!failed.is_empty()).then(|| failed.join("; ")))

@@ -4,6 +4,8 @@
 //! 1. [`import`] reads a drawing into exact segments (lines and circular arcs) with layers and units;
 //! 2. [`geom`] chains loose segments into closed loops and nests them into profiles (outer loop plus holes);
 //! 3. [`section`] integrates each profile exactly with Green's theorem into [`section::SectionProps`];
+//!    With `--torsion`, [`fem`] meshes each profile and solves for the torsion constant, the
+//!    shear centre and the warping constant;
 //! 4. [`report`] turns results into CSV rows;
 //! 5. [`cli`] walks folders, runs files in parallel and writes the output atomically.
 //!
@@ -14,6 +16,7 @@
 pub mod analyze;
 pub mod cli;
 pub mod explain;
+pub mod fem;
 pub mod geom;
 pub mod import;
 pub mod report;

@@ -486,13 +486,54 @@ const EXTRUSION_MM: [&str; 16] = [
     "outline_cy_mm",
 ];
 
+/// The torsion tier's columns in mm, in their order.
+const TORSION_MM: [&str; 5] = ["j_mm4", "xs_mm", "ys_mm", "iw_mm6", "torsion_accuracy"];
+
 #[test]
-fn all_adds_the_extrusion_columns_after_the_plastic_ones() {
+fn torsion_columns_convert_with_the_units() {
+    // Tube D = 50, d = 44 (fixtures/README.md): J = π(D⁴ − d⁴)/32 (exact; check-values §2),
+    // shear centre at the centre, no warping.
+    let (code, header, rows, stderr) = measure(&[&path("dxf/tube.dxf"), "--torsion"]);
+    assert_eq!(code, 0, "{stderr}");
+    let core = header_core_len(&header);
+    assert_eq!(&header[core..], TORSION_MM);
+    let r = &rows[0];
+    let j = PI * (50f64.powi(4) - 44f64.powi(4)) / 32.0;
+    assert_close!(r.f("j_mm4"), j, rel = 1e-6);
+    assert_close!(r.f("xs_mm"), r.f("cx_mm"), abs = 1e-9);
+    assert_close!(r.f("ys_mm"), r.f("cy_mm"), abs = 1e-9);
+    assert!(r.f("torsion_accuracy") <= 1e-3);
+    let (_, _, rows_cm, _) = measure(&[&path("dxf/tube.dxf"), "--torsion", "--units", "cm"]);
+    assert_close!(rows_cm[0].f("j_cm4"), j * 1e-4, rel = 1e-6);
+    assert_close!(rows_cm[0].f("xs_cm"), r.f("xs_mm") / 10.0, rel = CSV_REL);
+    assert!(rows_cm[0].s("iw_cm6").parse::<f64>().is_ok());
+    // A finer accuracy is accepted and met; a meaningless one is a usage error.
+    let (code, _, rows_fine, _) = measure(&[
+        &path("dxf/tube.dxf"),
+        "--torsion",
+        "--torsion-accuracy",
+        "1e-5",
+    ]);
+    assert_eq!(code, 0);
+    assert!(rows_fine[0].f("torsion_accuracy") <= 1e-5);
+    let (code, _, _, stderr) = measure(&[
+        &path("dxf/tube.dxf"),
+        "--torsion",
+        "--torsion-accuracy",
+        "2",
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("relative accuracy"), "{stderr}");
+}
+
+#[test]
+fn all_adds_the_tiers_in_their_order() {
     let (code, header, rows, stderr) = measure(&[&path("dxf/tube.dxf"), "--all"]);
     assert_eq!(code, 0, "{stderr}");
     let core = header_core_len(&header);
-    assert_eq!(header.len(), core + 12 + 16);
-    assert_eq!(&header[core + 12..], EXTRUSION_MM);
+    assert_eq!(header.len(), core + 12 + 16 + TORSION_MM.len());
+    assert_eq!(&header[core + 12..core + 28], EXTRUSION_MM);
+    assert_eq!(&header[core + 28..], TORSION_MM);
     for col in [
         "circumscribed_diameter_mm",
         "thinnest_wall_mm",

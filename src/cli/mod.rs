@@ -13,6 +13,7 @@ use std::time::Instant;
 use anyhow::{bail, Context};
 
 use crate::analyze::Settings;
+use crate::fem::TorsionSettings;
 use crate::import::{LengthUnit, ReadOptions};
 use crate::report::{csv_header, csv_records, CsvFormat, Tiers};
 use args::{Cli, Command, MeasureArgs, ReadArgs, UnitArg};
@@ -79,6 +80,7 @@ fn read_settings(read: &ReadArgs, census: bool) -> anyhow::Result<Settings> {
         assume_units: unit(read.assume_units),
         plastic: false,
         extrusion: false,
+        torsion: None,
     })
 }
 
@@ -99,12 +101,17 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         Tiers {
             plastic: args.plastic,
             extrusion: args.extrusion,
+            torsion: args.torsion,
         }
     };
     let settings = Settings {
         merge: args.merge,
         plastic: tiers.plastic,
         extrusion: tiers.extrusion,
+        torsion: tiers.torsion.then_some(TorsionSettings {
+            accuracy: args.torsion_accuracy,
+            max_nodes: args.torsion_max_nodes,
+        }),
         ..read
     };
     let format = CsvFormat {

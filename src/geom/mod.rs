@@ -16,6 +16,7 @@ pub mod moments;
 pub mod nest;
 pub mod predicates;
 pub mod segment;
+pub mod symmetry;
 
 pub use chain::{chain, Chained, Loop, LoopProblem};
 pub use curve_pieces::CurveTable;

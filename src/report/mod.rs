@@ -100,12 +100,25 @@ const EXTRUSION: &[(&str, Dim)] = &[
     ("outline_cy", Dim::L(1)),
 ];
 
+/// The torsion tier (`--torsion`, or `--all`), after the extruder's: the St Venant torsion
+/// constant, the shear centre (Trefftz) in drawing coordinates, the warping constant about
+/// the shear centre, and the solver's estimate of its relative error
+/// ([`crate::fem::torsion`]).
+const TORSION: &[(&str, Dim)] = &[
+    ("j", Dim::L(4)),
+    ("xs", Dim::L(1)),
+    ("ys", Dim::L(1)),
+    ("iw", Dim::L(6)),
+    ("torsion_accuracy", Dim::None),
+];
+
 /// Which optional tiers of columns a report carries; each tier comes after the core
 /// columns and those of the tiers before it, so the column order never changes.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct Tiers {
     pub plastic: bool,
     pub extrusion: bool,
+    pub torsion: bool,
 }
 
 impl Tiers {
@@ -113,12 +126,18 @@ impl Tiers {
     pub const ALL: Tiers = Tiers {
         plastic: true,
         extrusion: true,
+        torsion: true,
     };
 
     fn columns(self) -> impl Iterator<Item = &'static (&'static str, Dim)> {
         let plastic: &[(&str, Dim)] = if self.plastic { PLASTIC } else { &[] };
         let extrusion: &[(&str, Dim)] = if self.extrusion { EXTRUSION } else { &[] };
-        NUMERIC.iter().chain(plastic).chain(extrusion)
+        let torsion: &[(&str, Dim)] = if self.torsion { TORSION } else { &[] };
+        NUMERIC
+            .iter()
+            .chain(plastic)
+            .chain(extrusion)
+            .chain(torsion)
     }
 
     /// How many numeric columns a row has.
@@ -229,6 +248,12 @@ pub fn numeric_values(
                 x.outline_centroid.y,
             ]),
             None => raw.extend([f64::NAN; EXTRUSION.len()]),
+        }
+    }
+    if tiers.torsion {
+        match &p.torsion {
+            Some(t) => raw.extend([t.j, t.shear_centre.x, t.shear_centre.y, t.iw, t.accuracy]),
+            None => raw.extend([f64::NAN; TORSION.len()]),
         }
     }
     Some(

@@ -1,6 +1,7 @@
 //! Geometric section properties of one profile (or of several merged into one section).
 
 use super::{ExtrusionProps, PlasticProps};
+use crate::fem::TorsionProps;
 use crate::geom::{BBox, Moments, Point, Profile};
 
 /// Properties of a cross-section, in millimetres. Axes and signs:
@@ -46,6 +47,8 @@ pub struct SectionProps {
     pub plastic: Option<PlasticProps>,
     /// The extruder's figures, when asked for ([`super::extrusion_props`]).
     pub extrusion: Option<ExtrusionProps>,
+    /// Torsion and warping, when asked for ([`crate::fem::torsion_props`]).
+    pub torsion: Option<TorsionProps>,
 }
 
 /// Principal second moments and the angle of the major axis, from centroidal ixx, iyy, ixy.
@@ -116,5 +119,6 @@ pub fn section_props(profiles: &[&Profile]) -> SectionProps {
         r2: gyr(i2),
         plastic: None,
         extrusion: None,
+        torsion: None,
     }
 }

@@ -1,0 +1,465 @@
+//! Quadratic triangle meshes of profiles, for the finite-element solvers.
+//!
+//! A mesh is built in three steps:
+//! 1. every boundary loop becomes a closed polygon whose vertices lie on the true boundary:
+//!    lines are split into pieces no longer than the target size `h`, circular arcs into
+//!    pieces of at most 30° (and at most `h` long) with their vertices on the arc, and curve
+//!    pieces (ellipses, splines) are taken as their chords, which lie within the flattening
+//!    tolerance of the curve ([`crate::geom::curve_pieces`]);
+//! 2. `spade` builds the constrained Delaunay triangulation of those polygons and refines it
+//!    (Ruppert/Chew refinement: no angle below [`MIN_ANGLE_DEG`], no triangle larger than
+//!    about h²/2), leaving out the outside and the holes by parity;
+//! 3. each triangle gets a node at the middle of each edge (6-node triangles). On an edge that
+//!    lies on a circular arc the middle node is put on the arc, and so are the vertices spade
+//!    added on such edges, so arcs are followed by curved (isoparametric) element edges rather
+//!    than by chords.
+//!
+//! [`Mesh::refined`] splits every triangle into four at its middle nodes (the new nodes
+//! are placed by the element's own quadratic map, or on the arc for arc edges), which keeps the
+//! element shapes and nests the finite-element spaces: the torsion solver's successive
+//! levels.
+//!
+//! Invariants: elements are counter-clockwise with positive Jacobian at their quadrature
+//! points (the solver checks); node numbers are dense; an edge between two elements has the
+//! same middle node in both.
+
+use std::collections::HashMap;
+use std::f64::consts::PI;
+
+use spade::{
+    AngleLimit, ConstrainedDelaunayTriangulation, Point2, RefinementParameters, Triangulation,
+};
+
+use crate::geom::{Point, Profile, Segment};
+
+/// Smallest angle the refinement aims for (degrees); spade's refinement terminates for
+/// limits up to about 30° (Shewchuk's bound for Ruppert's algorithm).
+pub const MIN_ANGLE_DEG: f64 = 28.0;
+
+/// Largest turn of a boundary piece on a circular arc (radians). A 30° piece bulges
+/// 6.6 % of its chord, which the curved element edges follow.
+const MAX_ARC_STEP: f64 = PI / 6.0;
+
+/// "No arc" in [`Mesh::edge_arcs`].
+pub const NO_ARC: u32 = u32::MAX;
+
+/// A mesh of 6-node triangles.
+#[derive(Debug, Clone, Default)]
+pub struct Mesh {
+    /// Node positions, in the frame the mesh was built in.
+    pub nodes: Vec<Point>,
+    /// Corner nodes counter-clockwise, then the middle nodes of edges 0–1, 1–2 and 2–0.
+    pub elements: Vec<[u32; 6]>,
+    /// For each element and edge (0–1, 1–2, 2–0): the boundary arc the edge lies on
+    /// (an index into `arcs`), or [`NO_ARC`].
+    pub edge_arcs: Vec<[u32; 3]>,
+    /// Circles of the boundary arcs: centre and radius.
+    pub arcs: Vec<(Point, f64)>,
+}
+
+/// Why a profile could not be meshed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum MeshError {
+    /// Boundary pieces cross or overlap (spade refused the constraint between two vertices).
+    ConflictingBoundary { at: Point },
+    /// A coordinate spade cannot take (NaN, infinite, or beyond its range).
+    BadCoordinate,
+    /// Refinement stopped at its vertex cap before reaching the quality asked for.
+    RefinementIncomplete,
+    /// Nothing left after removing the outside and the holes.
+    Empty,
+}
+
+impl std::fmt::Display for MeshError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            MeshError::ConflictingBoundary { at } => write!(
+                f,
+                "boundary pieces cross or overlap near ({:.6}, {:.6})",
+                at.x, at.y
+            ),
+            MeshError::BadCoordinate => write!(f, "a boundary coordinate cannot be meshed"),
+            MeshError::RefinementIncomplete => {
+                write!(
+                    f,
+                    "mesh refinement did not finish (a sliver too thin to mesh?)"
+                )
+            }
+            MeshError::Empty => write!(f, "the mesh is empty"),
+        }
+    }
+}
+
+/// One boundary vertex and what the boundary does from it to the next vertex of its loop.
+#[derive(Debug, Clone, Copy)]
+struct BoundaryVertex {
+    at: Point,
+    /// The arc the edge to the next vertex follows, or [`NO_ARC`].
+    arc: u32,
+}
+
+/// Polygons of the profiles' loops, moved by `-origin`, with arcs recorded in `arcs`.
+fn boundary_polygons(
+    profiles: &[&Profile],
+    origin: Point,
+    h: f64,
+    arcs: &mut Vec<(Point, f64)>,
+) -> Vec<Vec<BoundaryVertex>> {
+    let size = profiles
+        .iter()
+        .map(|p| p.bbox.diagonal())
+        .fold(0.0, f64::max);
+    let merge = 1e-12 * size;
+    let mut polygons = Vec::new();
+    for p in profiles {
+        for lp in std::iter::once(&p.outer).chain(&p.holes) {
+            let mut poly: Vec<BoundaryVertex> = Vec::with_capacity(lp.segments.len());
+            let push = |v: BoundaryVertex, poly: &mut Vec<BoundaryVertex>| {
+                match poly.last_mut() {
+                    // A vertex on the last one: the edge from there follows the new kind.
+                    Some(last) if last.at.dist(v.at) <= merge => last.arc = v.arc,
+                    _ => poly.push(v),
+                }
+            };
+            for s in &lp.segments {
+                match s {
+                    Segment::Arc(a) => {
+                        let id = arcs.len() as u32;
+                        arcs.push((a.center - origin, a.radius));
+                        let n = ((a.sweep.abs() / MAX_ARC_STEP).ceil())
+                            .max((a.length() / h).ceil())
+                            .clamp(1.0, 1e6) as usize;
+                        for k in 0..n {
+                            let at = a.point_at(k as f64 / n as f64) - origin;
+                            push(BoundaryVertex { at, arc: id }, &mut poly);
+                        }
+                    }
+                    _ => {
+                        let (a, b) = match s {
+                            Segment::Line { a, b } => (*a, *b),
+                            Segment::Curve(c) => (c.a, c.b),
+                            Segment::Arc(_) => unreachable!("arcs are handled above"),
+                        };
+                        let n = (a.dist(b) / h).ceil().clamp(1.0, 1e6) as usize;
+                        for k in 0..n {
+                            let at = a + (b - a) * (k as f64 / n as f64) - origin;
+                            push(BoundaryVertex { at, arc: NO_ARC }, &mut poly);
+                        }
+                    }
+                }
+            }
+            // The loop closes on its first vertex.
+            while poly.len() > 1 && poly[poly.len() - 1].at.dist(poly[0].at) <= merge {
+                poly.pop();
+            }
+            if poly.len() >= 3 {
+                polygons.push(poly);
+            }
+        }
+    }
+    polygons
+}
+
+/// The point of the circle (`center`, `radius`) in the direction of `p` from the centre.
+fn onto_circle(p: Point, (center, radius): (Point, f64)) -> Point {
+    let d = p - center;
+    let n = d.norm();
+    if n > 0.0 {
+        center + d * (radius / n)
+    } else {
+        p
+    }
+}
+
+/// Value of the six quadratic shape functions at reference point (ξ, η).
+///
+/// With L1 = 1 − ξ − η, L2 = ξ, L3 = η: N0 = L1(2L1 − 1), N1 = L2(2L2 − 1),
+/// N2 = L3(2L3 − 1), N3 = 4L1L2, N4 = 4L2L3, N5 = 4L3L1 (the standard 6-node triangle,
+/// e.g. Zienkiewicz & Taylor, The Finite Element Method, vol. 1, §8.8; from memory).
+pub fn shape(xi: f64, eta: f64) -> [f64; 6] {
+    let (l1, l2, l3) = (1.0 - xi - eta, xi, eta);
+    [
+        l1 * (2.0 * l1 - 1.0),
+        l2 * (2.0 * l2 - 1.0),
+        l3 * (2.0 * l3 - 1.0),
+        4.0 * l1 * l2,
+        4.0 * l2 * l3,
+        4.0 * l3 * l1,
+    ]
+}
+
+impl Mesh {
+    /// Mesh `profiles` (their outer loops and holes) with elements of size about `h`, in a
+    /// frame moved by `-origin` (choose a point near the profiles, for precision).
+    /// `max_vertices` caps the refinement.
+    pub fn build(
+        profiles: &[&Profile],
+        origin: Point,
+        h: f64,
+        max_vertices: usize,
+    ) -> Result<Mesh, MeshError> {
+        let mut arcs = Vec::new();
+        let polygons = boundary_polygons(profiles, origin, h, &mut arcs);
+        // Vertices deduplicated by exact position, so that indices stay ours (spade merges
+        // equal positions itself and would shift them).
+        let mut index: HashMap<(u64, u64), usize> = HashMap::new();
+        let mut vertices: Vec<Point2<f64>> = Vec::new();
+        let mut edges: Vec<[usize; 2]> = Vec::new();
+        // Arc of each constraint edge (keyed by its two vertices, smaller first).
+        let mut edge_arc: HashMap<(usize, usize), u32> = HashMap::new();
+        for poly in &polygons {
+            let ids: Vec<usize> = poly
+                .iter()
+                .map(|v| {
+                    if !v.at.is_finite() {
+                        return usize::MAX;
+                    }
+                    *index
+                        .entry((v.at.x.to_bits(), v.at.y.to_bits()))
+                        .or_insert_with(|| {
+                            vertices.push(Point2::new(v.at.x, v.at.y));
+                            vertices.len() - 1
+                        })
+                })
+                .collect();
+            if ids.contains(&usize::MAX) {
+                return Err(MeshError::BadCoordinate);
+            }
+            for k in 0..ids.len() {
+                let (a, b) = (ids[k], ids[(k + 1) % ids.len()]);
+                if a != b {
+                    edges.push([a, b]);
+                    if poly[k].arc != NO_ARC {
+                        edge_arc.insert((a.min(b), a.max(b)), poly[k].arc);
+                    }
+                }
+            }
+        }
+        let n_input = vertices.len();
+        let mut conflict = None;
+        let mut cdt = ConstrainedDelaunayTriangulation::<Point2<f64>>::try_bulk_load_cdt(
+            vertices.clone(),
+            edges,
+            |[a, _]| {
+                conflict.get_or_insert(a);
+            },
+        )
+        .map_err(|_| MeshError::BadCoordinate)?;
+        if let Some(a) = conflict {
+            let p = vertices[a];
+            return Err(MeshError::ConflictingBoundary {
+                at: Point::new(p.x, p.y) + origin,
+            });
+        }
+        if cdt.num_vertices() != n_input {
+            return Err(MeshError::BadCoordinate);
+        }
+        let area: f64 = profiles.iter().map(|p| p.moments.a).sum();
+        let result = cdt.refine(
+            RefinementParameters::<f64>::new()
+                .exclude_outer_faces(true)
+                .with_angle_limit(AngleLimit::from_deg(MIN_ANGLE_DEG))
+                .with_max_allowed_area(0.5 * h * h)
+                .with_min_required_area(1e-14 * area.abs())
+                .with_max_additional_vertices(max_vertices.saturating_sub(n_input)),
+        );
+        if !result.refinement_complete {
+            return Err(MeshError::RefinementIncomplete);
+        }
+
+        // Vertices spade added on a constraint edge lie on its chord; find the input edge
+        // each lies on by walking the chain of added vertices to input vertices at both ends.
+        let n_all = cdt.num_vertices();
+        let mut positions: Vec<Point> = cdt
+            .vertices()
+            .map(|v| {
+                let p = v.position();
+                Point::new(p.x, p.y)
+            })
+            .collect();
+        let handles: Vec<_> = cdt.fixed_vertices().collect();
+        let constraint_neighbours = |v: usize| -> Vec<usize> {
+            cdt.vertex(handles[v])
+                .out_edges()
+                .filter(|e| e.is_constraint_edge())
+                .map(|e| e.to().fix().index())
+                .collect()
+        };
+        // For each added vertex on a constraint: the arc of its input edge (or NO_ARC).
+        let mut added_arc: Vec<Option<u32>> = vec![None; n_all.saturating_sub(n_input)];
+        for v in n_input..n_all {
+            if added_arc[v - n_input].is_some() {
+                continue;
+            }
+            let nb = constraint_neighbours(v);
+            if nb.len() != 2 {
+                continue; // an interior vertex
+            }
+            // Walk both ways to input vertices, collecting the added ones on the way.
+            let mut chain = vec![v];
+            let mut ends = [0usize; 2];
+            for (side, &first) in nb.iter().enumerate() {
+                let (mut prev, mut cur) = (v, first);
+                while cur >= n_input {
+                    chain.push(cur);
+                    let next = constraint_neighbours(cur);
+                    match next.iter().find(|&&w| w != prev) {
+                        Some(&w) if next.len() == 2 => {
+                            prev = cur;
+                            cur = w;
+                        }
+                        _ => break,
+                    }
+                }
+                ends[side] = cur;
+            }
+            let key = (ends[0].min(ends[1]), ends[0].max(ends[1]));
+            let arc = edge_arc.get(&key).copied().unwrap_or(NO_ARC);
+            for &c in &chain {
+                added_arc[c - n_input] = Some(arc);
+            }
+        }
+        for (k, arc) in added_arc.iter().enumerate() {
+            if let Some(a) = arc.filter(|&a| a != NO_ARC) {
+                positions[n_input + k] = onto_circle(positions[n_input + k], arcs[a as usize]);
+            }
+        }
+        let arc_of = |a: usize, b: usize| -> u32 {
+            for v in [a, b] {
+                if v >= n_input {
+                    return added_arc[v - n_input].unwrap_or(NO_ARC);
+                }
+            }
+            edge_arc
+                .get(&(a.min(b), a.max(b)))
+                .copied()
+                .unwrap_or(NO_ARC)
+        };
+
+        // Kept triangles, renumbered densely, with middle nodes.
+        let mut renumber = vec![u32::MAX; n_all];
+        let mut mesh = Mesh {
+            arcs,
+            ..Mesh::default()
+        };
+        let mut middles: HashMap<(u32, u32), u32> = HashMap::new();
+        for face in cdt.inner_faces() {
+            if result.excluded_faces.contains(&face.fix()) {
+                continue;
+            }
+            let vs = face.vertices().map(|v| v.fix().index());
+            let corners = vs.map(|v| {
+                if renumber[v] == u32::MAX {
+                    renumber[v] = mesh.nodes.len() as u32;
+                    mesh.nodes.push(positions[v]);
+                }
+                renumber[v]
+            });
+            let edges_of_face = face.adjacent_edges();
+            let mut element = [corners[0], corners[1], corners[2], 0, 0, 0];
+            let mut arcs_of = [NO_ARC; 3];
+            for k in 0..3 {
+                let (a, b) = (vs[k], vs[(k + 1) % 3]);
+                // spade's adjacent_edges()[k] runs from vertex k to vertex k + 1.
+                let is_constraint = edges_of_face[k].is_constraint_edge();
+                let arc = if is_constraint { arc_of(a, b) } else { NO_ARC };
+                arcs_of[k] = arc;
+                let (ca, cb) = (corners[k], corners[(k + 1) % 3]);
+                let key = (ca.min(cb), ca.max(cb));
+                let nodes = &mut mesh.nodes;
+                let arcs = &mesh.arcs;
+                element[3 + k] = *middles.entry(key).or_insert_with(|| {
+                    let m = (nodes[ca as usize] + nodes[cb as usize]) * 0.5;
+                    nodes.push(if arc == NO_ARC {
+                        m
+                    } else {
+                        onto_circle(m, arcs[arc as usize])
+                    });
+                    nodes.len() as u32 - 1
+                });
+            }
+            mesh.elements.push(element);
+            mesh.edge_arcs.push(arcs_of);
+        }
+        if mesh.elements.is_empty() {
+            return Err(MeshError::Empty);
+        }
+        Ok(mesh)
+    }
+
+    /// Position of reference point (ξ, η) of element `e` under its quadratic map.
+    pub fn map(&self, e: usize, xi: f64, eta: f64) -> Point {
+        let n = shape(xi, eta);
+        let el = &self.elements[e];
+        let mut p = Point::new(0.0, 0.0);
+        for k in 0..6 {
+            p = p + self.nodes[el[k] as usize] * n[k];
+        }
+        p
+    }
+
+    /// Every element split into four at its middle nodes: the corner and middle nodes become
+    /// corners, and the new middle nodes sit at the element's own quadratic map of the
+    /// reference midpoints (so straight edges stay straight and interior edges of curved
+    /// elements follow their element), except on arc edges, where they go onto the arc.
+    pub fn refined(&self) -> Mesh {
+        let mut out = Mesh {
+            nodes: self.nodes.clone(),
+            elements: Vec::with_capacity(4 * self.elements.len()),
+            edge_arcs: Vec::with_capacity(4 * self.elements.len()),
+            arcs: self.arcs.clone(),
+        };
+        let mut middles: HashMap<(u32, u32), u32> = HashMap::with_capacity(2 * self.nodes.len());
+        for (e, el) in self.elements.iter().enumerate() {
+            let arcs = self.edge_arcs[e];
+            // New middle node on the child edge a–b at reference point (ξ, η); `arc` is the
+            // arc the child edge lies on; `shared` edges (on the parent's edges) are looked
+            // up so that both neighbours use one node.
+            let mut middle = |a: u32, b: u32, xi: f64, eta: f64, arc: u32, shared: bool| {
+                let place = |out: &mut Mesh| {
+                    let p = self.map(e, xi, eta);
+                    out.nodes.push(if arc == NO_ARC {
+                        p
+                    } else {
+                        onto_circle(p, out.arcs[arc as usize])
+                    });
+                    out.nodes.len() as u32 - 1
+                };
+                if shared {
+                    let key = (a.min(b), a.max(b));
+                    if let Some(&m) = middles.get(&key) {
+                        return m;
+                    }
+                    let m = place(&mut out);
+                    middles.insert(key, m);
+                    m
+                } else {
+                    place(&mut out)
+                }
+            };
+            let [n0, n1, n2, n3, n4, n5] = *el;
+            let m03 = middle(n0, n3, 0.25, 0.0, arcs[0], true);
+            let m31 = middle(n3, n1, 0.75, 0.0, arcs[0], true);
+            let m14 = middle(n1, n4, 0.75, 0.25, arcs[1], true);
+            let m42 = middle(n4, n2, 0.25, 0.75, arcs[1], true);
+            let m25 = middle(n2, n5, 0.0, 0.75, arcs[2], true);
+            let m50 = middle(n5, n0, 0.0, 0.25, arcs[2], true);
+            let m35 = middle(n3, n5, 0.25, 0.25, NO_ARC, false);
+            let m34 = middle(n3, n4, 0.5, 0.25, NO_ARC, false);
+            let m45 = middle(n4, n5, 0.25, 0.5, NO_ARC, false);
+            out.elements.extend([
+                [n0, n3, n5, m03, m35, m50],
+                [n3, n1, n4, m31, m14, m34],
+                [n5, n4, n2, m45, m42, m25],
+                [n3, n4, n5, m34, m45, m35],
+            ]);
+            out.edge_arcs.extend([
+                [arcs[0], NO_ARC, arcs[2]],
+                [arcs[0], arcs[1], NO_ARC],
+                [NO_ARC, arcs[1], arcs[2]],
+                [NO_ARC; 3],
+            ]);
+        }
+        out
+    }
+}

@@ -1,0 +1,483 @@
+//! St Venant torsion and warping by finite elements: the torsion constant J, the shear
+//! centre and the warping constant Iw.
+//!
+//! ## The problem
+//!
+//! A prismatic bar twisted by a rate θ' warps out of plane by w = θ'·ω(x, y), where the
+//! warping function ω solves Laplace's equation ∇²ω = 0 in the section with
+//! ∂ω/∂n = y·nx − x·ny on every boundary, holes included (Saint-Venant; Timoshenko &
+//! Goodier, Theory of Elasticity, §104; Pilkey, Analysis and Design of Elastic Beams, 2002,
+//! §6.1; from memory). Multiplying by a test function v and integrating by parts turns the
+//! boundary term into an area integral, so no normals are needed:
+//!
+//!   ∬ ∇ω·∇v dA = ∬ (y·∂v/∂x − x·∂v/∂y) dA   for every v.
+//!
+//! With 6-node triangles this is K·ω = F. K is singular (ω is defined up to a constant on each
+//! connected piece), so one node per piece is held at zero and the rest is solved by sparse
+//! Cholesky (faer); F sums to zero on each piece, so the system is consistent.
+//!
+//! ## What is computed from ω (all about the frame origin, which is the centroid)
+//!
+//! - Torsion constant J = ∬ (x² + y² + x·∂ω/∂y − y·∂ω/∂x) dA (Pilkey §6.1). The first part
+//!   is the polar moment Ip, taken from the exact boundary integrals; the second is
+//!   −ωᵀF = −ωᵀKω for the finite-element ω. Galerkin's method makes ωᵀKω converge from below
+//!   on nested meshes, so J converges from above.
+//! - Shear centre (Trefftz's definition, Pilkey §6.3): the pole P = (a, b) about which the
+//!   warping function ω_P = ω − b·x + a·y + c has ∬ ω_P dA = ∬ x·ω_P dA = ∬ y·ω_P dA = 0
+//!   (no first moments of warping: the sectorial products of thin-walled theory). With the
+//!   mesh's own area integrals (about centroids of the pieces: Pxx = ∬x² − Σ X²/A, …,
+//!   Qx = ∬x·ω − Σ X·W/A, …) this is the 2×2 system
+//!   Pxy·a − Pxx·b = −Qx,  Pyy·a − Pxy·b = −Qy.
+//! - Warping constant about the shear centre Iw = ∬ ω_P² dA (Pilkey §6.3; Vlasov).
+//!
+//! Sections of several separate pieces (`--merge`): each piece warps freely with its own
+//! constant (chosen so that its ω_P has zero mean); J is the sum of the pieces' J.
+//!
+//! ## Accuracy
+//!
+//! [`torsion_props`] solves on a mesh and on its uniform refinements ([`Mesh::refined`]) until
+//! two successive levels agree within the accuracy asked for: J relative to itself, the shear
+//! centre relative to the polar radius of gyration √(Ip/A), Iw relative to the larger of
+//! itself and 1 % of Ip²/A (the size Iw has for a compact section; a section that barely
+//! warps, such as a tube or an angle, has Iw near zero, and its value is then reported to
+//! that floor). The largest of the three relative changes is the reported estimate.
+//! With quadratic elements J converges like h⁴ on smooth sections, like h^(4/3) near a
+//! sharp re-entrant corner (a fillet ends that once the mesh resolves it).
+
+use faer::prelude::*;
+use faer::sparse::{SparseColMat, Triplet};
+use faer::Side;
+
+use super::mesh::{shape, Mesh, MeshError};
+use crate::geom::curve_pieces::FLATTEN_REL;
+use crate::geom::symmetry::mirror_symmetric;
+use crate::geom::{Point, Profile, Segment};
+use crate::section::SectionProps;
+
+/// Settings of the torsion solver.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TorsionSettings {
+    /// Relative accuracy asked for (see the module doc).
+    pub accuracy: f64,
+    /// The largest mesh (nodes) a refinement level may have; beyond it the last level's
+    /// results are reported with their estimate, not converged.
+    pub max_nodes: usize,
+}
+
+impl Default for TorsionSettings {
+    fn default() -> Self {
+        TorsionSettings {
+            accuracy: 1e-3,
+            max_nodes: 400_000,
+        }
+    }
+}
+
+/// Torsion and warping properties of a section, millimetres.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TorsionProps {
+    /// St Venant torsion constant J (It).
+    pub j: f64,
+    /// Shear centre (Trefftz), drawing coordinates.
+    pub shear_centre: Point,
+    /// Warping constant Iw (Cw) about the shear centre.
+    pub iw: f64,
+    /// Estimated relative error: the largest relative change between the last two levels.
+    pub accuracy: f64,
+    /// Whether the estimate met the accuracy asked for.
+    pub converged: bool,
+    /// Nodes and elements of the last level.
+    pub nodes: usize,
+    pub elements: usize,
+}
+
+/// Results of one mesh level, in the frame of the mesh (origin at the section's centroid).
+#[derive(Debug, Clone, Copy)]
+struct Level {
+    /// ωᵀKω = ∬ |∇ω|² dA.
+    energy: f64,
+    shear_centre: Point,
+    iw: f64,
+}
+
+/// Gauss points of the degree-4 rule on the reference triangle (Dunavant 1985, 6 points;
+/// from memory): barycentric (a, a, 1 − 2a) and permutations, weights already halved for
+/// the reference triangle's area ½.
+const GAUSS: [(f64, f64, f64); 6] = {
+    const A1: f64 = 0.445_948_490_915_965;
+    const W1: f64 = 0.223_381_589_678_011 / 2.0;
+    const A2: f64 = 0.091_576_213_509_771;
+    const W2: f64 = 0.109_951_743_655_322 / 2.0;
+    [
+        (A1, A1, W1),
+        (1.0 - 2.0 * A1, A1, W1),
+        (A1, 1.0 - 2.0 * A1, W1),
+        (A2, A2, W2),
+        (1.0 - 2.0 * A2, A2, W2),
+        (A2, 1.0 - 2.0 * A2, W2),
+    ]
+};
+
+/// Derivatives of the shape functions ([`shape`]) with respect to ξ and η.
+fn shape_derivatives(xi: f64, eta: f64) -> [[f64; 6]; 2] {
+    let l1 = 1.0 - xi - eta;
+    let (l2, l3) = (xi, eta);
+    // dL1 = (−1, −1), dL2 = (1, 0), dL3 = (0, 1).
+    [
+        [
+            -(4.0 * l1 - 1.0),
+            4.0 * l2 - 1.0,
+            0.0,
+            4.0 * (l1 - l2),
+            4.0 * l3,
+            -4.0 * l3,
+        ],
+        [
+            -(4.0 * l1 - 1.0),
+            0.0,
+            4.0 * l3 - 1.0,
+            -4.0 * l2,
+            4.0 * l2,
+            4.0 * (l1 - l3),
+        ],
+    ]
+}
+
+/// Per quadrature point of an element: position, weight × Jacobian, and the shape
+/// functions' values and x, y derivatives.
+struct PointData {
+    at: Point,
+    weight: f64,
+    n: [f64; 6],
+    dx: [f64; 6],
+    dy: [f64; 6],
+}
+
+/// The six quadrature points of element `e`; `None` if the element is inverted or flat.
+fn element_points(mesh: &Mesh, e: usize, tables: &Tables) -> Option<[PointData; 6]> {
+    let el = &mesh.elements[e];
+    let xy: [Point; 6] = std::array::from_fn(|k| mesh.nodes[el[k] as usize]);
+    let mut ok = true;
+    let pts = std::array::from_fn(|g| {
+        let (n, d) = (&tables.n[g], &tables.d[g]);
+        let (mut x, mut y) = (0.0, 0.0);
+        let (mut j11, mut j12, mut j21, mut j22) = (0.0, 0.0, 0.0, 0.0);
+        for k in 0..6 {
+            x += n[k] * xy[k].x;
+            y += n[k] * xy[k].y;
+            j11 += d[0][k] * xy[k].x;
+            j12 += d[1][k] * xy[k].x;
+            j21 += d[0][k] * xy[k].y;
+            j22 += d[1][k] * xy[k].y;
+        }
+        let det = j11 * j22 - j12 * j21;
+        if det.is_nan() || det <= 0.0 || det.is_infinite() {
+            ok = false;
+        }
+        let inv = 1.0 / det;
+        let mut dx = [0.0; 6];
+        let mut dy = [0.0; 6];
+        for k in 0..6 {
+            dx[k] = (d[0][k] * j22 - d[1][k] * j21) * inv;
+            dy[k] = (-d[0][k] * j12 + d[1][k] * j11) * inv;
+        }
+        PointData {
+            at: Point::new(x, y),
+            weight: GAUSS[g].2 * det,
+            n: *n,
+            dx,
+            dy,
+        }
+    });
+    ok.then_some(pts)
+}
+
+/// Shape function values and derivatives at the quadrature points, computed once.
+struct Tables {
+    n: [[f64; 6]; 6],
+    d: [[[f64; 6]; 2]; 6],
+}
+
+impl Tables {
+    fn new() -> Tables {
+        Tables {
+            n: std::array::from_fn(|g| shape(GAUSS[g].0, GAUSS[g].1)),
+            d: std::array::from_fn(|g| shape_derivatives(GAUSS[g].0, GAUSS[g].1)),
+        }
+    }
+}
+
+/// Connected pieces of the mesh: the piece of each node, and the number of pieces.
+fn pieces(mesh: &Mesh) -> (Vec<u32>, usize) {
+    let n = mesh.nodes.len();
+    let mut parent: Vec<u32> = (0..n as u32).collect();
+    fn root(parent: &mut [u32], mut v: u32) -> u32 {
+        while parent[v as usize] != v {
+            let up = parent[parent[v as usize] as usize];
+            parent[v as usize] = up;
+            v = up;
+        }
+        v
+    }
+    for el in &mesh.elements {
+        let r0 = root(&mut parent, el[0]);
+        for &v in &el[1..] {
+            let r = root(&mut parent, v);
+            if r != r0 {
+                parent[r as usize] = r0;
+            }
+        }
+    }
+    let mut id = vec![u32::MAX; n];
+    let mut count = 0usize;
+    let piece = (0..n as u32)
+        .map(|v| {
+            let r = root(&mut parent, v) as usize;
+            if id[r] == u32::MAX {
+                id[r] = count as u32;
+                count += 1;
+            }
+            id[r]
+        })
+        .collect();
+    (piece, count)
+}
+
+/// Solve the warping problem on `mesh` (frame origin at the section's centroid).
+fn solve_level(mesh: &Mesh, tables: &Tables) -> Result<Level, String> {
+    let n = mesh.nodes.len();
+    let (piece, n_pieces) = pieces(mesh);
+    // Hold the first node of each piece at zero; number the others densely.
+    let mut dof = vec![0usize; n];
+    let mut pinned = vec![false; n_pieces];
+    let mut free = 0usize;
+    for v in 0..n {
+        let p = piece[v] as usize;
+        if !pinned[p] {
+            pinned[p] = true;
+            dof[v] = usize::MAX;
+        } else {
+            dof[v] = free;
+            free += 1;
+        }
+    }
+    let mut triplets: Vec<Triplet<usize, usize, f64>> =
+        Vec::with_capacity(21 * mesh.elements.len());
+    let mut f = vec![0.0; free];
+    let mut points = Vec::with_capacity(mesh.elements.len());
+    for e in 0..mesh.elements.len() {
+        let pts = element_points(mesh, e, tables)
+            .ok_or_else(|| "a mesh element is inverted (internal error)".to_string())?;
+        let el = &mesh.elements[e];
+        let mut ke = [[0.0; 6]; 6];
+        let mut fe = [0.0; 6];
+        for q in &pts {
+            for i in 0..6 {
+                fe[i] += q.weight * (q.at.y * q.dx[i] - q.at.x * q.dy[i]);
+                let (wx, wy) = (q.weight * q.dx[i], q.weight * q.dy[i]);
+                for (j, k) in ke[i][..=i].iter_mut().enumerate() {
+                    *k += wx * q.dx[j] + wy * q.dy[j];
+                }
+            }
+        }
+        for i in 0..6 {
+            let di = dof[el[i] as usize];
+            if di == usize::MAX {
+                continue;
+            }
+            f[di] += fe[i];
+            for j in 0..=i {
+                let dj = dof[el[j] as usize];
+                if dj != usize::MAX {
+                    triplets.push(Triplet::new(di.max(dj), di.min(dj), ke[i][j]));
+                }
+            }
+        }
+        points.push(pts);
+    }
+    let omega_free: Vec<f64> = if free == 0 {
+        Vec::new()
+    } else {
+        let k = SparseColMat::<usize, f64>::try_new_from_triplets(free, free, &triplets)
+            .map_err(|e| format!("assembly failed: {e:?}"))?;
+        drop(triplets);
+        let llt = k
+            .sp_cholesky(Side::Lower)
+            .map_err(|e| format!("the stiffness matrix is not positive definite ({e:?})"))?;
+        let rhs = Col::<f64>::from_fn(free, |i| f[i]);
+        let x = llt.solve(&rhs);
+        (0..free).map(|i| x[i]).collect()
+    };
+    let energy: f64 = omega_free.iter().zip(&f).map(|(w, fi)| w * fi).sum();
+    let omega: Vec<f64> = dof
+        .iter()
+        .map(|&d| if d == usize::MAX { 0.0 } else { omega_free[d] })
+        .collect();
+
+    // Area integrals of each piece and of ω.
+    #[derive(Clone, Copy, Default)]
+    struct PieceSums {
+        a: f64,
+        x: f64,
+        y: f64,
+        w: f64,
+    }
+    let mut ps = vec![PieceSums::default(); n_pieces];
+    let (mut xx, mut yy, mut xy, mut xw, mut yw) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for (e, pts) in points.iter().enumerate() {
+        let el = &mesh.elements[e];
+        let s = &mut ps[piece[el[0] as usize] as usize];
+        for q in pts {
+            let w: f64 = (0..6).map(|k| q.n[k] * omega[el[k] as usize]).sum();
+            let (x, y, dw) = (q.at.x, q.at.y, q.weight);
+            s.a += dw;
+            s.x += dw * x;
+            s.y += dw * y;
+            s.w += dw * w;
+            xx += dw * x * x;
+            yy += dw * y * y;
+            xy += dw * x * y;
+            xw += dw * x * w;
+            yw += dw * y * w;
+        }
+    }
+    let (mut pxx, mut pyy, mut pxy, mut qx, mut qy) = (xx, yy, xy, xw, yw);
+    for s in &ps {
+        if s.a > 0.0 {
+            pxx -= s.x * s.x / s.a;
+            pyy -= s.y * s.y / s.a;
+            pxy -= s.x * s.y / s.a;
+            qx -= s.x * s.w / s.a;
+            qy -= s.y * s.w / s.a;
+        }
+    }
+    // Pxy·a − Pxx·b = −Qx;  Pyy·a − Pxy·b = −Qy  (Cramer's rule).
+    let det = -pxy * pxy + pxx * pyy;
+    let a = (qx * pxy - pxx * qy) / det;
+    let b = (pyy * qx - pxy * qy) / det;
+    let c: Vec<f64> = ps
+        .iter()
+        .map(|s| {
+            if s.a > 0.0 {
+                -(s.w + a * s.y - b * s.x) / s.a
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    // Iw = ∬ ω_P² dA with ω_P = ω − b·x + a·y + c (exactly representable on the elements).
+    let mut iw = 0.0;
+    for (e, pts) in points.iter().enumerate() {
+        let el = &mesh.elements[e];
+        let ce = c[piece[el[0] as usize] as usize];
+        for q in pts {
+            let w: f64 = (0..6).map(|k| q.n[k] * omega[el[k] as usize]).sum();
+            let wp = w - b * q.at.x + a * q.at.y + ce;
+            iw += q.weight * wp * wp;
+        }
+    }
+    if !(energy.is_finite() && a.is_finite() && b.is_finite() && iw.is_finite()) {
+        return Err("the torsion solution is not finite".into());
+    }
+    Ok(Level {
+        energy,
+        shear_centre: Point::new(a, b),
+        iw,
+    })
+}
+
+/// ωᵀKω = ∬ |∇ω|² dA of the finite-element warping function on `mesh` (built about the
+/// section's centroid); J on this mesh alone is Ip − ωᵀKω. For tests of convergence.
+pub fn warping_energy(mesh: &Mesh) -> Result<f64, String> {
+    solve_level(mesh, &Tables::new()).map(|l| l.energy)
+}
+
+/// Target element size of the first level: a fifth of the side of a square of the same area
+/// as the section, but no more than a tenth of the box's larger side. Thin walls get smaller
+/// elements by themselves (the refinement's angle limit).
+fn first_size(area: f64, width: f64, height: f64) -> f64 {
+    (area.abs().sqrt() / 5.0).min(width.max(height) / 10.0)
+}
+
+/// The shear centre `sc` put exactly on the section's lines of mirror symmetry, if it has
+/// any: a principal axis through the centroid about which the boundary is symmetric (to
+/// 1e-7 of the section's size, or to the flattening tolerance of its curve pieces) carries
+/// the shear centre (module [`crate::geom::symmetry`]); two such axes meet at the centroid.
+fn onto_symmetry_axes(profiles: &[&Profile], props: &SectionProps, sc: Point) -> Point {
+    let segments: Vec<Segment> = profiles
+        .iter()
+        .flat_map(|p| std::iter::once(&p.outer).chain(&p.holes))
+        .flat_map(|l| l.segments.iter().copied())
+        .collect();
+    let size = props.bbox.diagonal();
+    let has_curves = segments.iter().any(|s| matches!(s, Segment::Curve(_)));
+    let tolerance = size * if has_curves { 2.0 * FLATTEN_REL } else { 1e-7 };
+    let c = props.centroid;
+    let theta = props.theta_deg.to_radians();
+    let axes: Vec<Point> = [theta, theta + std::f64::consts::FRAC_PI_2]
+        .into_iter()
+        .map(Point::polar)
+        .filter(|&d| mirror_symmetric(&segments, c, d, tolerance))
+        .collect();
+    match axes[..] {
+        [] => sc,
+        [d] => c + d * (sc - c).dot(d),
+        _ => c,
+    }
+}
+
+/// J, shear centre and Iw of the section made of `profiles`, whose geometric properties
+/// are `props`.
+pub fn torsion_props(
+    profiles: &[&Profile],
+    props: &SectionProps,
+    settings: &TorsionSettings,
+) -> Result<TorsionProps, String> {
+    let (centroid, area, ip) = (props.centroid, props.area, props.ip);
+    let bbox = profiles
+        .iter()
+        .fold(crate::geom::BBox::EMPTY, |b, p| b.union(&p.bbox));
+    let h = first_size(area, bbox.width(), bbox.height());
+    if !(h > 0.0 && h.is_finite()) {
+        return Err("no area to mesh".into());
+    }
+    let mut mesh = Mesh::build(profiles, centroid, h, settings.max_nodes)
+        .map_err(|e: MeshError| format!("cannot mesh the section: {e}"))?;
+    let tables = Tables::new();
+    let mut previous: Option<Level> = None;
+    // Scales of the relative changes (module doc).
+    let rp = (ip / area).abs().sqrt();
+    let iw_floor = 0.01 * ip * ip / area;
+    loop {
+        let level = solve_level(&mesh, &tables)?;
+        let j = ip - level.energy;
+        let next_nodes = mesh.nodes.len() * 4;
+        let estimate = previous.map(|p| {
+            let dj = ((ip - p.energy) - j).abs() / j.abs();
+            let ds = p.shear_centre.dist(level.shear_centre) / rp;
+            let diw = (p.iw - level.iw).abs() / level.iw.abs().max(iw_floor);
+            dj.max(ds).max(diw)
+        });
+        let done = estimate.is_some_and(|e| e <= settings.accuracy);
+        if done || (estimate.is_some() && next_nodes > settings.max_nodes) {
+            return Ok(TorsionProps {
+                j,
+                shear_centre: onto_symmetry_axes(profiles, props, centroid + level.shear_centre),
+                iw: level.iw,
+                accuracy: estimate.unwrap_or(f64::NAN),
+                converged: done,
+                nodes: mesh.nodes.len(),
+                elements: mesh.elements.len(),
+            });
+        }
+        if next_nodes > settings.max_nodes {
+            return Err(format!(
+                "the first mesh ({} nodes) leaves no room for a second level under the cap of {} nodes",
+                mesh.nodes.len(),
+                settings.max_nodes
+            ));
+        }
+        previous = Some(level);
+        mesh = mesh.refined();
+    }
+}
