@@ -4,6 +4,7 @@
 //! This module does no I/O. All lengths are millimetres.
 
 pub mod mesh;
+pub mod multigrid;
 pub mod torsion;
 
 pub use mesh::{Mesh, MeshError};

@@ -44,11 +44,8 @@
 //! With quadratic elements J converges like h⁴ on smooth sections, like h^(4/3) near a
 //! sharp re-entrant corner (a fillet ends that once the mesh resolves it).
 
-use faer::prelude::*;
-use faer::sparse::{SparseColMat, Triplet};
-use faer::Side;
-
 use super::mesh::{shape, Mesh, MeshError};
+use super::multigrid::{Csr, Hierarchy};
 use crate::geom::curve_pieces::FLATTEN_REL;
 use crate::geom::symmetry::mirror_symmetric;
 use crate::geom::{Point, Profile, Segment};
@@ -148,7 +145,6 @@ fn shape_derivatives(xi: f64, eta: f64) -> [[f64; 6]; 2] {
 struct PointData {
     at: Point,
     weight: f64,
-    n: [f64; 6],
     dx: [f64; 6],
     dy: [f64; 6],
 }
@@ -184,7 +180,6 @@ fn element_points(mesh: &Mesh, e: usize, tables: &Tables) -> Option<[PointData; 
         PointData {
             at: Point::new(x, y),
             weight: GAUSS[g].2 * det,
-            n: *n,
             dx,
             dy,
         }
@@ -243,32 +238,26 @@ fn pieces(mesh: &Mesh) -> (Vec<u32>, usize) {
     (piece, count)
 }
 
-/// Solve the warping problem on `mesh` (frame origin at the section's centroid).
-fn solve_level(mesh: &Mesh, tables: &Tables) -> Result<Level, String> {
+/// The stiffness matrix K and load vector F of `mesh` (frame origin at the section's
+/// centroid), with the `held` unknowns as identity rows, and the position and weight ×
+/// Jacobian of every quadrature point (for the integrals of ω).
+#[allow(clippy::type_complexity)]
+fn assemble(
+    mesh: &Mesh,
+    held: &[u32],
+    tables: &Tables,
+) -> Result<(Csr, Vec<f64>, Vec<[(Point, f64); 6]>), String> {
     let n = mesh.nodes.len();
-    let (piece, n_pieces) = pieces(mesh);
-    // Hold the first node of each piece at zero; number the others densely.
-    let mut dof = vec![0usize; n];
-    let mut pinned = vec![false; n_pieces];
-    let mut free = 0usize;
-    for v in 0..n {
-        let p = piece[v] as usize;
-        if !pinned[p] {
-            pinned[p] = true;
-            dof[v] = usize::MAX;
-        } else {
-            dof[v] = free;
-            free += 1;
-        }
+    let mut is_held = vec![false; n];
+    for &h in held {
+        is_held[h as usize] = true;
     }
-    let mut triplets: Vec<Triplet<usize, usize, f64>> =
-        Vec::with_capacity(21 * mesh.elements.len());
-    let mut f = vec![0.0; free];
-    let mut points = Vec::with_capacity(mesh.elements.len());
-    for e in 0..mesh.elements.len() {
+    let mut k = Csr::pattern(n, &mesh.elements);
+    let mut f = vec![0.0; n];
+    let mut points: Vec<[(Point, f64); 6]> = Vec::with_capacity(mesh.elements.len());
+    for (e, el) in mesh.elements.iter().enumerate() {
         let pts = element_points(mesh, e, tables)
             .ok_or_else(|| "a mesh element is inverted (internal error)".to_string())?;
-        let el = &mesh.elements[e];
         let mut ke = [[0.0; 6]; 6];
         let mut fe = [0.0; 6];
         for q in &pts {
@@ -281,39 +270,70 @@ fn solve_level(mesh: &Mesh, tables: &Tables) -> Result<Level, String> {
             }
         }
         for i in 0..6 {
-            let di = dof[el[i] as usize];
-            if di == usize::MAX {
+            let vi = el[i] as usize;
+            if is_held[vi] {
                 continue;
             }
-            f[di] += fe[i];
+            f[vi] += fe[i];
             for j in 0..=i {
-                let dj = dof[el[j] as usize];
-                if dj != usize::MAX {
-                    triplets.push(Triplet::new(di.max(dj), di.min(dj), ke[i][j]));
+                let vj = el[j] as usize;
+                if is_held[vj] {
+                    continue;
+                }
+                k.add(vi, vj, ke[i][j]);
+                if vi != vj {
+                    k.add(vj, vi, ke[i][j]);
                 }
             }
         }
-        points.push(pts);
+        points.push(pts.map(|q| (q.at, q.weight)));
     }
-    let omega_free: Vec<f64> = if free == 0 {
-        Vec::new()
-    } else {
-        let k = SparseColMat::<usize, f64>::try_new_from_triplets(free, free, &triplets)
-            .map_err(|e| format!("assembly failed: {e:?}"))?;
-        drop(triplets);
-        let llt = k
-            .sp_cholesky(Side::Lower)
-            .map_err(|e| format!("the stiffness matrix is not positive definite ({e:?})"))?;
-        let rhs = Col::<f64>::from_fn(free, |i| f[i]);
-        let x = llt.solve(&rhs);
-        (0..free).map(|i| x[i]).collect()
-    };
-    let energy: f64 = omega_free.iter().zip(&f).map(|(w, fi)| w * fi).sum();
-    let omega: Vec<f64> = dof
-        .iter()
-        .map(|&d| if d == usize::MAX { 0.0 } else { omega_free[d] })
-        .collect();
+    for &h in held {
+        k.hold(h as usize);
+    }
+    Ok((k, f, points))
+}
 
+/// The first node of each connected piece: held at zero to remove the constant.
+fn held_nodes(piece: &[u32], n_pieces: usize) -> Vec<u32> {
+    let mut held = vec![u32::MAX; n_pieces];
+    for (v, &p) in piece.iter().enumerate() {
+        if held[p as usize] == u32::MAX {
+            held[p as usize] = v as u32;
+        }
+    }
+    held
+}
+
+/// Relative residual the iterative solves of finer levels reach: far below what moves J,
+/// the shear centre or Iw in their reported digits (J depends on the solution's error
+/// only quadratically, through the energy 2·ωᵀF − ωᵀKω).
+const SOLVER_TOLERANCE: f64 = 1e-10;
+
+/// Solve the warping problem on the finest level of `hierarchy` (after `mesh` was pushed
+/// onto it; `guess` is the level below's solution) and integrate the results.
+fn solve_level(
+    hierarchy: &mut Hierarchy,
+    f: &[f64],
+    points: &[[(Point, f64); 6]],
+    guess: Option<&[f64]>,
+    tables: &Tables,
+) -> Result<(Level, Vec<f64>), String> {
+    let guess = guess.map(|g| hierarchy.prolonged(g));
+    let omega = hierarchy.solve(f, guess.as_deref(), SOLVER_TOLERANCE)?;
+    let top = hierarchy.matrices.len() - 1;
+    let mut k_omega = vec![0.0; omega.len()];
+    hierarchy.matrices[top].mul(&omega, &mut k_omega);
+    // 2·ωᵀF − ωᵀKω: equal to ωᵀKω for the exact solution of K·ω = F, and off from it only
+    // by the square of the solver's error.
+    let energy: f64 = omega
+        .iter()
+        .zip(f)
+        .zip(&k_omega)
+        .map(|((w, fi), kw)| w * (2.0 * fi - kw))
+        .sum();
+    let mesh = &hierarchy.meshes[top];
+    let (piece, n_pieces) = pieces(mesh);
     // Area integrals of each piece and of ω.
     #[derive(Clone, Copy, Default)]
     struct PieceSums {
@@ -327,9 +347,10 @@ fn solve_level(mesh: &Mesh, tables: &Tables) -> Result<Level, String> {
     for (e, pts) in points.iter().enumerate() {
         let el = &mesh.elements[e];
         let s = &mut ps[piece[el[0] as usize] as usize];
-        for q in pts {
-            let w: f64 = (0..6).map(|k| q.n[k] * omega[el[k] as usize]).sum();
-            let (x, y, dw) = (q.at.x, q.at.y, q.weight);
+        for (g, &(at, dw)) in pts.iter().enumerate() {
+            let n = &tables.n[g];
+            let w: f64 = (0..6).map(|k| n[k] * omega[el[k] as usize]).sum();
+            let (x, y) = (at.x, at.y);
             s.a += dw;
             s.x += dw * x;
             s.y += dw * y;
@@ -370,26 +391,35 @@ fn solve_level(mesh: &Mesh, tables: &Tables) -> Result<Level, String> {
     for (e, pts) in points.iter().enumerate() {
         let el = &mesh.elements[e];
         let ce = c[piece[el[0] as usize] as usize];
-        for q in pts {
-            let w: f64 = (0..6).map(|k| q.n[k] * omega[el[k] as usize]).sum();
-            let wp = w - b * q.at.x + a * q.at.y + ce;
-            iw += q.weight * wp * wp;
+        for (g, &(at, dw)) in pts.iter().enumerate() {
+            let n = &tables.n[g];
+            let w: f64 = (0..6).map(|k| n[k] * omega[el[k] as usize]).sum();
+            let wp = w - b * at.x + a * at.y + ce;
+            iw += dw * wp * wp;
         }
     }
     if !(energy.is_finite() && a.is_finite() && b.is_finite() && iw.is_finite()) {
         return Err("the torsion solution is not finite".into());
     }
-    Ok(Level {
-        energy,
-        shear_centre: Point::new(a, b),
-        iw,
-    })
+    Ok((
+        Level {
+            energy,
+            shear_centre: Point::new(a, b),
+            iw,
+        },
+        omega,
+    ))
 }
 
 /// ωᵀKω = ∬ |∇ω|² dA of the finite-element warping function on `mesh` (built about the
 /// section's centroid); J on this mesh alone is Ip − ωᵀKω. For tests of convergence.
 pub fn warping_energy(mesh: &Mesh) -> Result<f64, String> {
-    solve_level(mesh, &Tables::new()).map(|l| l.energy)
+    let tables = Tables::new();
+    let (piece, n_pieces) = pieces(mesh);
+    let mut hierarchy = Hierarchy::new(held_nodes(&piece, n_pieces));
+    let (k, f, points) = assemble(mesh, &hierarchy.held, &tables)?;
+    hierarchy.push(mesh.clone(), k);
+    solve_level(&mut hierarchy, &f, &points, None, &tables).map(|(l, _)| l.energy)
 }
 
 /// Target element size of the first level: a fifth of the side of a square of the same area
@@ -441,24 +471,32 @@ pub fn torsion_props(
     if !(h > 0.0 && h.is_finite()) {
         return Err("no area to mesh".into());
     }
-    let mut mesh = Mesh::build(profiles, centroid, h, settings.max_nodes)
+    let mesh = Mesh::build(profiles, centroid, h, settings.max_nodes)
         .map_err(|e: MeshError| format!("cannot mesh the section: {e}"))?;
     let tables = Tables::new();
-    let mut previous: Option<Level> = None;
+    let (piece, n_pieces) = pieces(&mesh);
+    // Refinement keeps node numbers, so the held nodes stay the first of their pieces.
+    let mut hierarchy = Hierarchy::new(held_nodes(&piece, n_pieces));
+    let mut mesh = mesh;
+    let mut previous: Option<(Level, Vec<f64>)> = None;
     // Scales of the relative changes (module doc).
     let rp = (ip / area).abs().sqrt();
     let iw_floor = 0.01 * ip * ip / area;
     loop {
-        let level = solve_level(&mesh, &tables)?;
+        let (k, f, points) = assemble(&mesh, &hierarchy.held, &tables)?;
+        let (nodes, elements) = (mesh.nodes.len(), mesh.elements.len());
+        hierarchy.push(mesh, k);
+        let guess = previous.as_ref().map(|(_, w)| w.as_slice());
+        let (level, omega) = solve_level(&mut hierarchy, &f, &points, guess, &tables)?;
         let j = ip - level.energy;
-        let next_nodes = mesh.nodes.len() * 4;
-        let estimate = previous.map(|p| {
+        let estimate = previous.as_ref().map(|(p, _)| {
             let dj = ((ip - p.energy) - j).abs() / j.abs();
             let ds = p.shear_centre.dist(level.shear_centre) / rp;
             let diw = (p.iw - level.iw).abs() / level.iw.abs().max(iw_floor);
             dj.max(ds).max(diw)
         });
         let done = estimate.is_some_and(|e| e <= settings.accuracy);
+        let next_nodes = nodes * 4;
         if done || (estimate.is_some() && next_nodes > settings.max_nodes) {
             return Ok(TorsionProps {
                 j,
@@ -466,18 +504,17 @@ pub fn torsion_props(
                 iw: level.iw,
                 accuracy: estimate.unwrap_or(f64::NAN),
                 converged: done,
-                nodes: mesh.nodes.len(),
-                elements: mesh.elements.len(),
+                nodes,
+                elements,
             });
         }
         if next_nodes > settings.max_nodes {
             return Err(format!(
-                "the first mesh ({} nodes) leaves no room for a second level under the cap of {} nodes",
-                mesh.nodes.len(),
+                "the first mesh ({nodes} nodes) leaves no room for a second level under the cap of {} nodes",
                 settings.max_nodes
             ));
         }
-        previous = Some(level);
-        mesh = mesh.refined();
+        mesh = hierarchy.meshes[hierarchy.meshes.len() - 1].refined();
+        previous = Some((level, omega));
     }
 }
