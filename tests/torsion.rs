@@ -408,3 +408,68 @@ fn segments_of_every_kind_mesh() {
     assert_close!(q.shear_centre.y, s.centroid.y, abs = 1e-9 * l);
     assert!(q.j > 0.0 && q.j < s.ip);
 }
+
+#[test]
+fn touching_and_overlapping_loops_give_a_result_or_a_reason() {
+    // Where boundaries touch, the section is pinched to nothing: the solution is singular
+    // there and converges slowly, so a small node cap keeps this test quick; a profile that
+    // reaches the cap reports its estimate and says so in the message.
+    let capped = Settings {
+        torsion: Some(TorsionSettings {
+            accuracy: 1e-3,
+            max_nodes: 40_000,
+        }),
+        ..Settings::default()
+    };
+    let check = |out: &[Outcome]| {
+        let s = out[0].result.clone().expect("measured");
+        let t = s.torsion.expect("torsion computed");
+        assert!(t.j > 0.0 && t.j < s.ip, "{t:?}");
+        assert!(t.accuracy.is_finite());
+        if !t.converged {
+            assert!(
+                out[0]
+                    .message
+                    .contains("torsion accuracy 1.0e-3 not reached"),
+                "{}",
+                out[0].message
+            );
+        }
+    };
+    // Two round holes touching each other.
+    check(&measure_drawing(
+        drawing(vec![
+            closed(rect(-20.0, 48.0, 50.0, 40.0)),
+            closed(circle(5.0, 63.0, 7.5)),
+            closed(circle(5.0, 78.0, 7.5)),
+        ]),
+        &capped,
+    ));
+    // A hexagon around its inscribed circle (a nut seen from above, drawn without
+    // clearance): the circle's piece ends lie on the flats, which are split there.
+    let r = 3.5;
+    let a = r / (PI / 6.0).cos();
+    let hex: Vec<(f64, f64)> = (0..6)
+        .map(|k| {
+            let t = k as f64 * PI / 3.0;
+            (a * t.cos(), a * t.sin())
+        })
+        .collect();
+    check(&measure_drawing(
+        drawing(vec![closed(poly(&hex, &[])), closed(circle(0.0, 0.0, r))]),
+        &capped,
+    ));
+    // A hole whose edges lie along the outline (a notch drawn as a hole) cannot be meshed
+    // by parity; the geometric columns stay and the message says why.
+    let diamond = poly(&[(0.0, 0.0), (10.0, 10.0), (0.0, 20.0), (-10.0, 10.0)], &[]);
+    let notch = poly(&[(0.0, 0.0), (3.0, 3.0), (0.0, 6.0), (-3.0, 3.0)], &[]);
+    let out = measure_drawing(drawing(vec![closed(diamond), closed(notch)]), &capped);
+    let s = out[0].result.clone().expect("geometric columns measured");
+    assert_close!(s.area, 200.0 - 18.0, rel = 1e-12);
+    assert!(s.torsion.is_none());
+    assert!(
+        out[0].message.contains("torsion not computed: cannot mesh"),
+        "{}",
+        out[0].message
+    );
+}

@@ -86,9 +86,13 @@ pub enum MeshError {
     /// A coordinate spade cannot take (NaN, infinite, or beyond its range).
     BadCoordinate,
     /// Refinement stopped at its vertex cap before reaching the quality asked for.
-    RefinementIncomplete,
+    RefinementIncomplete { cap: usize },
     /// Nothing left after removing the outside and the holes.
     Empty,
+    /// The triangles kept do not cover the profile: loops overlap along an edge.
+    Overlapping,
+    /// Elements fold over even with straight edges (boundaries touching).
+    Folded,
 }
 
 impl std::fmt::Display for MeshError {
@@ -100,13 +104,20 @@ impl std::fmt::Display for MeshError {
                 at.x, at.y
             ),
             MeshError::BadCoordinate => write!(f, "a boundary coordinate cannot be meshed"),
-            MeshError::RefinementIncomplete => {
-                write!(
-                    f,
-                    "mesh refinement did not finish (a sliver too thin to mesh?)"
-                )
-            }
+            MeshError::RefinementIncomplete { cap } => write!(
+                f,
+                "the mesh needs more than {cap} vertices (a sliver or a very fine boundary; \
+                 --torsion-max-nodes raises the cap)"
+            ),
             MeshError::Empty => write!(f, "the mesh is empty"),
+            MeshError::Overlapping => write!(
+                f,
+                "loops run along each other (a hole drawn on the outline?), which the mesh cannot follow"
+            ),
+            MeshError::Folded => write!(
+                f,
+                "boundaries touch so closely that mesh elements fold over"
+            ),
         }
     }
 }
@@ -181,6 +192,86 @@ fn boundary_polygons(
     polygons
 }
 
+/// `edges` with every edge split at the vertices that lie on it (within `tolerance`) between
+/// its ends: where a loop touches another at one of its vertices (a circle touching a flat),
+/// the flat must pass through that vertex, or the two constraints conflict. Split pieces
+/// keep their edge's arc, which still passes through the vertex to within the tolerance.
+fn split_at_touching_vertices(
+    vertices: &[Point2<f64>],
+    edges: Vec<[usize; 2]>,
+    edge_arc: &mut HashMap<(usize, usize), u32>,
+    tolerance: f64,
+) -> Vec<[usize; 2]> {
+    if edges.is_empty() {
+        return edges;
+    }
+    let pt = |k: usize| Point::new(vertices[k].x, vertices[k].y);
+    // Vertices filed in a uniform grid of about one vertex per cell.
+    let (mut lo, mut hi) = (pt(0), pt(0));
+    for k in 0..vertices.len() {
+        let p = pt(k);
+        lo = Point::new(lo.x.min(p.x), lo.y.min(p.y));
+        hi = Point::new(hi.x.max(p.x), hi.y.max(p.y));
+    }
+    let n = (vertices.len() as f64).sqrt().ceil().clamp(1.0, 2048.0) as usize;
+    let cell = ((hi.x - lo.x).max(hi.y - lo.y) / n as f64).max(f64::MIN_POSITIVE);
+    let at = |v: f64, l: f64| (((v - l) / cell).floor().max(0.0) as usize).min(n - 1);
+    let mut grid: Vec<Vec<u32>> = vec![Vec::new(); n * n];
+    for k in 0..vertices.len() {
+        let p = pt(k);
+        grid[at(p.y, lo.y) * n + at(p.x, lo.x)].push(k as u32);
+    }
+    let mut out = Vec::with_capacity(edges.len());
+    for [i, j] in edges {
+        let (a, b) = (pt(i), pt(j));
+        let d = b - a;
+        let len2 = d.dot(d);
+        let (x0, x1) = (
+            at(a.x.min(b.x) - tolerance, lo.x),
+            at(a.x.max(b.x) + tolerance, lo.x),
+        );
+        let (y0, y1) = (
+            at(a.y.min(b.y) - tolerance, lo.y),
+            at(a.y.max(b.y) + tolerance, lo.y),
+        );
+        // Boundary pieces are short (at most the target size), so each looks at few cells.
+        let mut on: Vec<(f64, usize)> = Vec::new();
+        if len2 > 0.0 && (x1 - x0 + 1) * (y1 - y0 + 1) <= 4096 {
+            for cy in y0..=y1 {
+                for cx in x0..=x1 {
+                    for &k in &grid[cy * n + cx] {
+                        let k = k as usize;
+                        if k == i || k == j {
+                            continue;
+                        }
+                        let t = (pt(k) - a).dot(d) / len2;
+                        if t > 0.0 && t < 1.0 && (a + d * t).dist(pt(k)) <= tolerance {
+                            on.push((t, k));
+                        }
+                    }
+                }
+            }
+        }
+        if on.is_empty() {
+            out.push([i, j]);
+            continue;
+        }
+        on.sort_by(|p, q| p.0.total_cmp(&q.0));
+        let arc = edge_arc.get(&(i.min(j), i.max(j))).copied();
+        let mut from = i;
+        for (_, k) in on.into_iter().chain(std::iter::once((1.0, j))) {
+            if k != from {
+                out.push([from, k]);
+                if let Some(arc) = arc {
+                    edge_arc.insert((from.min(k), from.max(k)), arc);
+                }
+            }
+            from = k;
+        }
+    }
+    out
+}
+
 /// The point of the circle (`center`, `radius`) in the direction of `p` from the centre.
 fn onto_circle(p: Point, (center, radius): (Point, f64)) -> Point {
     let d = p - center;
@@ -209,6 +300,49 @@ pub fn shape(xi: f64, eta: f64) -> [f64; 6] {
     ]
 }
 
+/// Gauss points of the degree-4 rule on the reference triangle (Dunavant 1985, 6 points;
+/// from memory): barycentric (a, a, 1 − 2a) and permutations, weights already halved for
+/// the reference triangle's area ½.
+pub const GAUSS: [(f64, f64, f64); 6] = {
+    const A1: f64 = 0.445_948_490_915_965;
+    const W1: f64 = 0.223_381_589_678_011 / 2.0;
+    const A2: f64 = 0.091_576_213_509_771;
+    const W2: f64 = 0.109_951_743_655_322 / 2.0;
+    [
+        (A1, A1, W1),
+        (1.0 - 2.0 * A1, A1, W1),
+        (A1, 1.0 - 2.0 * A1, W1),
+        (A2, A2, W2),
+        (1.0 - 2.0 * A2, A2, W2),
+        (A2, 1.0 - 2.0 * A2, W2),
+    ]
+};
+
+/// Derivatives of the shape functions ([`shape`]) with respect to ξ and η.
+pub fn shape_derivatives(xi: f64, eta: f64) -> [[f64; 6]; 2] {
+    let l1 = 1.0 - xi - eta;
+    let (l2, l3) = (xi, eta);
+    // dL1 = (−1, −1), dL2 = (1, 0), dL3 = (0, 1).
+    [
+        [
+            -(4.0 * l1 - 1.0),
+            4.0 * l2 - 1.0,
+            0.0,
+            4.0 * (l1 - l2),
+            4.0 * l3,
+            -4.0 * l3,
+        ],
+        [
+            -(4.0 * l1 - 1.0),
+            0.0,
+            4.0 * l3 - 1.0,
+            -4.0 * l2,
+            4.0 * l2,
+            4.0 * (l1 - l3),
+        ],
+    ]
+}
+
 impl Mesh {
     /// Mesh `profiles` (their outer loops and holes) with elements of size about `h`, in a
     /// frame moved by `-origin` (choose a point near the profiles, for precision).
@@ -221,9 +355,16 @@ impl Mesh {
     ) -> Result<Mesh, MeshError> {
         let mut arcs = Vec::new();
         let polygons = boundary_polygons(profiles, origin, h, &mut arcs);
-        // Vertices deduplicated by exact position, so that indices stay ours (spade merges
-        // equal positions itself and would shift them).
-        let mut index: HashMap<(u64, u64), usize> = HashMap::new();
+        // Vertices closer than 1e-12 of the size are one (where two loops touch, their
+        // vertices computed a rounding error apart would leave a sliver of zero width), so
+        // indices stay ours (spade would merge only exact duplicates, and shift indices).
+        let size = profiles
+            .iter()
+            .map(|p| p.bbox.diagonal())
+            .fold(0.0, f64::max);
+        let merge = 1e-12 * size;
+        let cell = if merge > 0.0 { merge } else { 1.0 };
+        let mut index: HashMap<(i64, i64), Vec<usize>> = HashMap::new();
         let mut vertices: Vec<Point2<f64>> = Vec::new();
         let mut edges: Vec<[usize; 2]> = Vec::new();
         // Arc of each constraint edge (keyed by its two vertices, smaller first).
@@ -235,12 +376,26 @@ impl Mesh {
                     if !v.at.is_finite() {
                         return usize::MAX;
                     }
-                    *index
-                        .entry((v.at.x.to_bits(), v.at.y.to_bits()))
-                        .or_insert_with(|| {
-                            vertices.push(Point2::new(v.at.x, v.at.y));
-                            vertices.len() - 1
-                        })
+                    let (cx, cy) = (
+                        (v.at.x / cell).floor() as i64,
+                        (v.at.y / cell).floor() as i64,
+                    );
+                    for dx in -1..=1 {
+                        for dy in -1..=1 {
+                            if let Some(near) = index.get(&(cx + dx, cy + dy)) {
+                                for &k in near {
+                                    let p = vertices[k];
+                                    if Point::new(p.x, p.y).dist(v.at) <= merge {
+                                        return k;
+                                    }
+                                }
+                            }
+                        }
+                    }
+                    // + 0.0 turns −0 into +0, which spade would take for the same point.
+                    vertices.push(Point2::new(v.at.x + 0.0, v.at.y + 0.0));
+                    index.entry((cx, cy)).or_default().push(vertices.len() - 1);
+                    vertices.len() - 1
                 })
                 .collect();
             if ids.contains(&usize::MAX) {
@@ -256,36 +411,48 @@ impl Mesh {
                 }
             }
         }
+        let edges = split_at_touching_vertices(&vertices, edges, &mut edge_arc, 1e-10 * size);
         let n_input = vertices.len();
-        let mut conflict = None;
-        let mut cdt = ConstrainedDelaunayTriangulation::<Point2<f64>>::try_bulk_load_cdt(
-            vertices.clone(),
-            edges,
-            |[a, _]| {
-                conflict.get_or_insert(a);
-            },
-        )
-        .map_err(|_| MeshError::BadCoordinate)?;
-        if let Some(a) = conflict {
-            let p = vertices[a];
-            return Err(MeshError::ConflictingBoundary {
-                at: Point::new(p.x, p.y) + origin,
-            });
-        }
-        if cdt.num_vertices() != n_input {
-            return Err(MeshError::BadCoordinate);
-        }
-        let area: f64 = profiles.iter().map(|p| p.moments.a).sum();
-        let result = cdt.refine(
-            RefinementParameters::<f64>::new()
-                .exclude_outer_faces(true)
-                .with_angle_limit(AngleLimit::from_deg(MIN_ANGLE_DEG))
-                .with_max_allowed_area(0.5 * h * h)
-                .with_min_required_area(1e-14 * area.abs())
-                .with_max_additional_vertices(max_vertices.saturating_sub(n_input)),
-        );
+        let triangulate = || -> Result<ConstrainedDelaunayTriangulation<Point2<f64>>, MeshError> {
+            let mut conflict = None;
+            let cdt = ConstrainedDelaunayTriangulation::<Point2<f64>>::try_bulk_load_cdt(
+                vertices.clone(),
+                edges.clone(),
+                |[a, _]| {
+                    conflict.get_or_insert(a);
+                },
+            )
+            .map_err(|_| MeshError::BadCoordinate)?;
+            if cdt.num_vertices() != n_input {
+                return Err(MeshError::BadCoordinate);
+            }
+            if let Some(a) = conflict {
+                let p = vertices[a];
+                return Err(MeshError::ConflictingBoundary {
+                    at: Point::new(p.x, p.y) + origin,
+                });
+            }
+            Ok(cdt)
+        };
+        let parameters = RefinementParameters::<f64>::new()
+            .exclude_outer_faces(true)
+            .with_angle_limit(AngleLimit::from_deg(MIN_ANGLE_DEG))
+            .with_max_allowed_area(0.5 * h * h)
+            // Elements a thousandth of the size asked for are not refined further.
+            .with_min_required_area(1e-6 * h * h)
+            .with_max_additional_vertices(max_vertices.saturating_sub(n_input));
+        let mut cdt = triangulate()?;
+        let mut result = cdt.refine(parameters.clone());
         if !result.refinement_complete {
-            return Err(MeshError::RefinementIncomplete);
+            // Near a cusp (two boundaries meeting at a zero angle) splitting boundary edges
+            // to mend encroachment never ends; the boundary is already split to the target
+            // size, so refine again without splitting it (some triangles at the boundary
+            // then stay below the angle limit).
+            cdt = triangulate()?;
+            result = cdt.refine(parameters.keep_constraint_edges());
+        }
+        if !result.refinement_complete {
+            return Err(MeshError::RefinementIncomplete { cap: max_vertices });
         }
 
         // Vertices spade added on a constraint edge lie on its chord; find the input edge
@@ -340,9 +507,15 @@ impl Mesh {
                 added_arc[c - n_input] = Some(arc);
             }
         }
+        // Moving a vertex by d onto its arc changes the area of the straight triangles by
+        // at most d times the length of the two boundary edges at it.
+        let mut arc_moves = 0.0;
+        let chord_positions = positions.clone();
         for (k, arc) in added_arc.iter().enumerate() {
             if let Some(a) = arc.filter(|&a| a != NO_ARC) {
-                positions[n_input + k] = onto_circle(positions[n_input + k], arcs[a as usize]);
+                let moved = onto_circle(positions[n_input + k], arcs[a as usize]);
+                arc_moves += moved.dist(positions[n_input + k]) * 2.0 * h;
+                positions[n_input + k] = moved;
             }
         }
         let arc_of = |a: usize, b: usize| -> u32 {
@@ -403,9 +576,144 @@ impl Mesh {
             mesh.edge_arcs.push(arcs_of);
         }
         if mesh.elements.is_empty() {
-            return Err(MeshError::Empty);
+            // Odd parity left nothing: loops that run along each other (see below).
+            return Err(MeshError::Overlapping);
+        }
+        // spade keeps the faces of odd parity; where a hole's edge lies along the outline
+        // (a notch drawn as a hole) parity is wrong. The kept triangles must cover the
+        // polygons' area exactly (both are the same straight-edged region).
+        let polygon_area: f64 = polygons
+            .iter()
+            .map(|poly| {
+                (0..poly.len())
+                    .map(|k| poly[k].at.cross(poly[(k + 1) % poly.len()].at))
+                    .sum::<f64>()
+                    / 2.0
+            })
+            .sum();
+        let mesh_area: f64 = mesh
+            .elements
+            .iter()
+            .map(|el| {
+                let [a, b, c] = [0, 1, 2].map(|k| mesh.nodes[el[k] as usize]);
+                (b - a).cross(c - a) / 2.0
+            })
+            .sum();
+        // Vertices moved onto arcs change the triangles' area by the segments they add.
+        let tolerance = 1e-6 * polygon_area.abs() + arc_moves;
+        if (mesh_area - polygon_area).abs() > tolerance {
+            return Err(MeshError::Overlapping);
+        }
+        // Where boundaries nearly touch, a vertex moved onto its arc or a curved edge can
+        // fold an element over: put such vertices back on their chords and straighten the
+        // edges, until no element folds (each round only moves vertices back, so it ends).
+        let chord_of: Vec<Option<Point>> = (0..mesh.nodes.len()).map(|_| None).collect();
+        let mut chord_of = chord_of;
+        for (v, &r) in renumber.iter().enumerate() {
+            if r != u32::MAX && v >= n_input && chord_positions[v] != positions[v] {
+                chord_of[r as usize] = Some(chord_positions[v]);
+            }
+        }
+        loop {
+            mesh.place_middles();
+            let mut moved_back = false;
+            for e in 0..mesh.elements.len() {
+                if mesh.element_is_valid(e) {
+                    continue;
+                }
+                for k in 0..3 {
+                    let v = mesh.elements[e][k] as usize;
+                    if let Some(p) = chord_of[v].take() {
+                        mesh.nodes[v] = p;
+                        moved_back = true;
+                    }
+                }
+            }
+            if !moved_back {
+                break;
+            }
+        }
+        if mesh.straighten_folded() > 0 {
+            return Err(MeshError::Folded);
         }
         Ok(mesh)
+    }
+
+    /// Whether element `e`'s quadratic map keeps a positive Jacobian at its corners, its
+    /// edge middles and its quadrature points (not folded over by a curved edge).
+    pub fn element_is_valid(&self, e: usize) -> bool {
+        const CHECK: [(f64, f64); 6] = [
+            (0.0, 0.0),
+            (1.0, 0.0),
+            (0.0, 1.0),
+            (0.5, 0.0),
+            (0.5, 0.5),
+            (0.0, 0.5),
+        ];
+        let el = &self.elements[e];
+        let points = CHECK
+            .iter()
+            .copied()
+            .chain(GAUSS.iter().map(|g| (g.0, g.1)));
+        points.into_iter().all(|(xi, eta)| {
+            let d = shape_derivatives(xi, eta);
+            let (mut j11, mut j12, mut j21, mut j22) = (0.0, 0.0, 0.0, 0.0);
+            for k in 0..6 {
+                let p = self.nodes[el[k] as usize];
+                j11 += d[0][k] * p.x;
+                j12 += d[1][k] * p.x;
+                j21 += d[0][k] * p.y;
+                j22 += d[1][k] * p.y;
+            }
+            let det = j11 * j22 - j12 * j21;
+            det.is_finite() && det > 0.0
+        })
+    }
+
+    /// Straighten the arc edges of elements that a curved edge folds over (where a hole
+    /// nearly touches another boundary, the material between can be thinner than an arc
+    /// edge's bulge): their middle nodes go back to the chord's middle. A boundary edge
+    /// belongs to one element only, so no neighbour is affected. Returns how many elements
+    /// remain invalid.
+    fn straighten_folded(&mut self) -> usize {
+        let mut invalid = 0;
+        for e in 0..self.elements.len() {
+            if self.element_is_valid(e) {
+                continue;
+            }
+            let el = self.elements[e];
+            for k in 0..3 {
+                if self.edge_arcs[e][k] != NO_ARC {
+                    let (a, b) = (
+                        self.nodes[el[k] as usize],
+                        self.nodes[el[(k + 1) % 3] as usize],
+                    );
+                    self.nodes[el[3 + k] as usize] = (a + b) * 0.5;
+                    self.edge_arcs[e][k] = NO_ARC;
+                }
+            }
+            if !self.element_is_valid(e) {
+                invalid += 1;
+            }
+        }
+        invalid
+    }
+
+    /// Put every middle node at the middle of its edge: on the arc for an arc edge, else
+    /// halfway between the corners (the placement [`Mesh::build`] makes).
+    fn place_middles(&mut self) {
+        for e in 0..self.elements.len() {
+            let el = self.elements[e];
+            for k in 0..3 {
+                let m = (self.nodes[el[k] as usize] + self.nodes[el[(k + 1) % 3] as usize]) * 0.5;
+                let arc = self.edge_arcs[e][k];
+                self.nodes[el[3 + k] as usize] = if arc == NO_ARC {
+                    m
+                } else {
+                    onto_circle(m, self.arcs[arc as usize])
+                };
+            }
+        }
     }
 
     /// Position of reference point (ξ, η) of element `e` under its quadratic map.
@@ -484,6 +792,7 @@ impl Mesh {
                 [NO_ARC; 3],
             ]);
         }
+        out.straighten_folded();
         out
     }
 }

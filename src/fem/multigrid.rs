@@ -179,7 +179,12 @@ impl Direct {
                 MemStack::new(&mut scratch),
                 params,
             )
-            .map_err(|e| format!("the stiffness matrix is not positive definite ({e:?})"))?;
+            .map_err(|e| {
+                format!(
+                    "the stiffness matrix is not positive definite ({e:?}): degenerate \
+                     elements where boundaries meet at a zero angle?"
+                )
+            })?;
         Ok(Direct {
             symbolic,
             l_values,
@@ -333,6 +338,15 @@ impl Hierarchy {
             }
         }
         Err("the iterative solver did not converge".into())
+    }
+
+    /// Solve the finest level's system by factorising it (slower, for when the iterative
+    /// solve fails).
+    pub fn solve_directly(&self, b: &[f64]) -> Result<Vec<f64>, String> {
+        let top = self.matrices.len() - 1;
+        let mut x = b.to_vec();
+        Direct::new(&self.matrices[top])?.solve(&mut x);
+        Ok(x)
     }
 
     /// x = V-cycle approximation of A_level⁻¹·r.

@@ -44,7 +44,7 @@
 //! With quadratic elements J converges like h⁴ on smooth sections, like h^(4/3) near a
 //! sharp re-entrant corner (a fillet ends that once the mesh resolves it).
 
-use super::mesh::{shape, Mesh, MeshError};
+use super::mesh::{shape, shape_derivatives, Mesh, MeshError, GAUSS};
 use super::multigrid::{Csr, Hierarchy};
 use crate::geom::curve_pieces::FLATTEN_REL;
 use crate::geom::symmetry::mirror_symmetric;
@@ -95,49 +95,6 @@ struct Level {
     energy: f64,
     shear_centre: Point,
     iw: f64,
-}
-
-/// Gauss points of the degree-4 rule on the reference triangle (Dunavant 1985, 6 points;
-/// from memory): barycentric (a, a, 1 − 2a) and permutations, weights already halved for
-/// the reference triangle's area ½.
-const GAUSS: [(f64, f64, f64); 6] = {
-    const A1: f64 = 0.445_948_490_915_965;
-    const W1: f64 = 0.223_381_589_678_011 / 2.0;
-    const A2: f64 = 0.091_576_213_509_771;
-    const W2: f64 = 0.109_951_743_655_322 / 2.0;
-    [
-        (A1, A1, W1),
-        (1.0 - 2.0 * A1, A1, W1),
-        (A1, 1.0 - 2.0 * A1, W1),
-        (A2, A2, W2),
-        (1.0 - 2.0 * A2, A2, W2),
-        (A2, 1.0 - 2.0 * A2, W2),
-    ]
-};
-
-/// Derivatives of the shape functions ([`shape`]) with respect to ξ and η.
-fn shape_derivatives(xi: f64, eta: f64) -> [[f64; 6]; 2] {
-    let l1 = 1.0 - xi - eta;
-    let (l2, l3) = (xi, eta);
-    // dL1 = (−1, −1), dL2 = (1, 0), dL3 = (0, 1).
-    [
-        [
-            -(4.0 * l1 - 1.0),
-            4.0 * l2 - 1.0,
-            0.0,
-            4.0 * (l1 - l2),
-            4.0 * l3,
-            -4.0 * l3,
-        ],
-        [
-            -(4.0 * l1 - 1.0),
-            0.0,
-            4.0 * l3 - 1.0,
-            -4.0 * l2,
-            4.0 * l2,
-            4.0 * (l1 - l3),
-        ],
-    ]
 }
 
 /// Per quadrature point of an element: position, weight × Jacobian, and the shape
@@ -320,7 +277,12 @@ fn solve_level(
     tables: &Tables,
 ) -> Result<(Level, Vec<f64>), String> {
     let guess = guess.map(|g| hierarchy.prolonged(g));
-    let omega = hierarchy.solve(f, guess.as_deref(), SOLVER_TOLERANCE)?;
+    let omega = match hierarchy.solve(f, guess.as_deref(), SOLVER_TOLERANCE) {
+        Ok(w) => w,
+        // Multigrid needs well-shaped, nested levels; where boundaries nearly touch some
+        // elements are neither, and the level is factorised instead.
+        Err(_) => hierarchy.solve_directly(f)?,
+    };
     let top = hierarchy.matrices.len() - 1;
     let mut k_omega = vec![0.0; omega.len()];
     hierarchy.matrices[top].mul(&omega, &mut k_omega);
@@ -471,7 +433,9 @@ pub fn torsion_props(
     if !(h > 0.0 && h.is_finite()) {
         return Err("no area to mesh".into());
     }
-    let mesh = Mesh::build(profiles, centroid, h, settings.max_nodes)
+    // A first level of V vertices has about 4·V nodes (corners and edge middles), and the
+    // second level four times as many: both must fit under the cap.
+    let mesh = Mesh::build(profiles, centroid, h, settings.max_nodes / 16)
         .map_err(|e: MeshError| format!("cannot mesh the section: {e}"))?;
     let tables = Tables::new();
     let (piece, n_pieces) = pieces(&mesh);
@@ -516,5 +480,188 @@ pub fn torsion_props(
         }
         mesh = hierarchy.meshes[hierarchy.meshes.len() - 1].refined();
         previous = Some((level, omega));
+    }
+}
+
+/// Area integrals of a mesh by its quadrature: [A, ∬x, ∬y, ∬x², ∬y², ∬xy] in the mesh's
+/// frame. Exact for straight elements; for curved ones to the rule's accuracy.
+pub fn mesh_integrals(mesh: &Mesh) -> Option<[f64; 6]> {
+    let tables = Tables::new();
+    let mut m = [0.0; 6];
+    for e in 0..mesh.elements.len() {
+        for q in element_points(mesh, e, &tables)? {
+            let (x, y, w) = (q.at.x, q.at.y, q.weight);
+            m[0] += w;
+            m[1] += w * x;
+            m[2] += w * y;
+            m[3] += w * x * x;
+            m[4] += w * y * y;
+            m[5] += w * x * y;
+        }
+    }
+    Some(m)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fem::mesh::MIN_ANGLE_DEG;
+    use crate::geom::{nest, Arc, Loop, Segment};
+    use crate::import::{LayerName, Location, Origin};
+
+    fn profile(loops: Vec<Vec<Segment>>) -> Profile {
+        let loops = loops
+            .into_iter()
+            .map(|segments| Loop {
+                segments,
+                layer: LayerName::default(),
+                origin: Origin {
+                    entity: "LWPOLYLINE",
+                    location: Location::Line(1),
+                    handle: None,
+                    in_block: false,
+                },
+            })
+            .collect();
+        let mut problems = Vec::new();
+        let mut ps = nest(loops, 1e-9, &[], &mut problems).profiles;
+        assert_eq!(ps.len(), 1, "{problems:?}");
+        ps.pop().expect("one profile")
+    }
+
+    fn poly(pts: &[(f64, f64)]) -> Vec<Segment> {
+        (0..pts.len())
+            .map(|k| {
+                let (a, b) = (pts[k], pts[(k + 1) % pts.len()]);
+                Segment::line(Point::new(a.0, a.1), Point::new(b.0, b.1))
+            })
+            .collect()
+    }
+
+    /// An L-shaped plate with a round hole: lines, an arc boundary and a re-entrant corner.
+    fn plate() -> Profile {
+        profile(vec![
+            poly(&[
+                (0.0, 0.0),
+                (40.0, 0.0),
+                (40.0, 10.0),
+                (10.0, 10.0),
+                (10.0, 30.0),
+                (0.0, 30.0),
+            ]),
+            vec![Segment::Arc(Arc::circle(Point::new(25.0, 5.0), 3.0))],
+        ])
+    }
+
+    #[test]
+    fn mesh_integrals_match_the_exact_ones_and_refinement_keeps_them() {
+        // Two ways: the boundary integrals (Green's theorem, exact) and the mesh's own
+        // quadrature. Curved element edges are quadratic curves through three points of
+        // the hole's circle: their area error falls like h⁴ (16× per halving; at least 8×
+        // is asked, until rounding), and is 1e-5 of the area on 30° pieces.
+        let p = plate();
+        let exact = crate::section::section_props(&[&p]);
+        let c = exact.centroid;
+        let mut mesh = Mesh::build(&[&p], c, 5.0, 1 << 20).expect("meshed");
+        let mut errors = Vec::new();
+        for _ in 0..4 {
+            let m = mesh_integrals(&mesh).expect("no inverted element");
+            let rel = |a: f64, b: f64, scale: f64| (a - b).abs() / scale;
+            errors.push(
+                [
+                    rel(m[0], exact.area, exact.area),
+                    rel(m[1], 0.0, exact.area * 30.0),
+                    rel(m[2], 0.0, exact.area * 30.0),
+                    rel(m[3], exact.iyy, exact.iyy),
+                    rel(m[4], exact.ixx, exact.ixx),
+                    rel(m[5], exact.ixy, exact.ixx),
+                ]
+                .into_iter()
+                .fold(0.0f64, f64::max),
+            );
+            mesh = mesh.refined();
+        }
+        assert!(errors[0] < 2e-5, "{errors:?}");
+        for w in errors.windows(2) {
+            assert!(w[1] < w[0] / 8.0 || w[1] < 1e-12, "{errors:?}");
+        }
+        // Without arcs the mesh is the polygon exactly.
+        let square = profile(vec![poly(&[
+            (0.0, 0.0),
+            (7.0, 0.0),
+            (7.0, 3.0),
+            (0.0, 3.0),
+        ])]);
+        let mesh = Mesh::build(&[&square], Point::new(0.0, 0.0), 1.0, 1 << 20).expect("meshed");
+        let m = mesh_integrals(&mesh.refined()).expect("valid");
+        assert!((m[0] - 21.0).abs() < 1e-12 * 21.0);
+        assert!((m[4] - 7.0 * 27.0 / 3.0).abs() < 1e-12 * 63.0);
+    }
+
+    #[test]
+    fn mesh_quality_and_shared_middle_nodes() {
+        let p = plate();
+        let mesh = Mesh::build(&[&p], Point::new(0.0, 0.0), 4.0, 1 << 20).expect("meshed");
+        // Every corner angle at least the limit (less a little: spade's limit is on the
+        // circumradius-to-shortest-edge ratio) away from the boundary's own angles, which
+        // here are all 90° or more.
+        let mut worst = 180.0f64;
+        for el in &mesh.elements {
+            let c = [0, 1, 2].map(|k| mesh.nodes[el[k] as usize]);
+            for k in 0..3 {
+                let (a, b, o) = (c[(k + 1) % 3], c[(k + 2) % 3], c[k]);
+                let (u, v) = (a - o, b - o);
+                worst = worst.min(u.cross(v).atan2(u.dot(v)).to_degrees());
+            }
+        }
+        assert!(worst > MIN_ANGLE_DEG - 0.5, "smallest angle {worst}");
+        // Each edge's middle node is shared by the two elements on it.
+        let mut middles = std::collections::HashMap::new();
+        for el in &mesh.elements {
+            for k in 0..3 {
+                let (a, b) = (el[k], el[(k + 1) % 3]);
+                let m = el[3 + k];
+                let old = middles.insert((a.min(b), a.max(b)), m);
+                assert!(
+                    old.is_none() || old == Some(m),
+                    "edge {a}–{b} has two middles"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn multigrid_solution_equals_the_direct_one() {
+        // The same fine system solved by the V-cycle-preconditioned conjugate gradients
+        // (three levels) and by factorising it.
+        let p = plate();
+        let c = crate::section::section_props(&[&p]).centroid;
+        let tables = Tables::new();
+        let coarse = Mesh::build(&[&p], c, 6.0, 1 << 20).expect("meshed");
+        let (piece, n_pieces) = pieces(&coarse);
+        let held = held_nodes(&piece, n_pieces);
+        let mut h = Hierarchy::new(held.clone());
+        let mut mesh = coarse;
+        let mut guess: Option<Vec<f64>> = None;
+        let mut last = (Vec::new(), Vec::new());
+        for _ in 0..3 {
+            let (k, f, points) = assemble(&mesh, &h.held, &tables).expect("assembled");
+            h.push(mesh, k);
+            let (_, omega) =
+                solve_level(&mut h, &f, &points, guess.as_deref(), &tables).expect("solved");
+            last = (f, omega.clone());
+            guess = Some(omega);
+            mesh = h.meshes[h.meshes.len() - 1].refined();
+        }
+        let fine = h.meshes.pop().expect("three levels");
+        let (k, f, _) = assemble(&fine, &held, &tables).expect("assembled");
+        let mut direct = Hierarchy::new(held);
+        direct.push(fine, k);
+        let x = direct.solve(&f, None, 0.0).expect("factorised");
+        assert_eq!(last.0, f);
+        let scale = x.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        for (a, b) in last.1.iter().zip(&x) {
+            assert!((a - b).abs() <= 1e-8 * scale, "{a} vs {b}");
+        }
     }
 }
