@@ -272,6 +272,25 @@ fn split_at_touching_vertices(
     out
 }
 
+/// How many times the polygons wind around `p`, counter-clockwise positive (each edge
+/// crossing the horizontal line through `p` to its right counts ±1; e.g. O'Rourke,
+/// Computational Geometry in C, §7.4; from memory).
+fn winding_number(polygons: &[Vec<BoundaryVertex>], p: Point) -> i32 {
+    let mut w = 0;
+    for poly in polygons {
+        for k in 0..poly.len() {
+            let (a, b) = (poly[k].at, poly[(k + 1) % poly.len()].at);
+            let side = (b - a).cross(p - a);
+            if a.y <= p.y && b.y > p.y && side > 0.0 {
+                w += 1;
+            } else if a.y > p.y && b.y <= p.y && side < 0.0 {
+                w -= 1;
+            }
+        }
+    }
+    w
+}
+
 /// The point of the circle (`center`, `radius`) in the direction of `p` from the centre.
 fn onto_circle(p: Point, (center, radius): (Point, f64)) -> Point {
     let d = p - center;
@@ -352,6 +371,26 @@ impl Mesh {
         origin: Point,
         h: f64,
         max_vertices: usize,
+    ) -> Result<Mesh, MeshError> {
+        match Mesh::build_with(profiles, origin, h, max_vertices, false) {
+            Err(MeshError::Overlapping) => {
+                Mesh::build_with(profiles, origin, h, max_vertices, true)
+            }
+            other => other,
+        }
+    }
+
+    /// [`Mesh::build`], keeping the triangles of odd parity across the loops (spade's
+    /// classification, which refines only those), or with `by_winding` the triangles whose
+    /// centre the loops wind around once (outer loops count +1, holes −1), after refining
+    /// the whole triangulation. The second is right also where loops run along each other
+    /// (a notch drawn as a hole on the outline), where parity fails.
+    fn build_with(
+        profiles: &[&Profile],
+        origin: Point,
+        h: f64,
+        max_vertices: usize,
+        by_winding: bool,
     ) -> Result<Mesh, MeshError> {
         let mut arcs = Vec::new();
         let polygons = boundary_polygons(profiles, origin, h, &mut arcs);
@@ -435,7 +474,7 @@ impl Mesh {
             Ok(cdt)
         };
         let parameters = RefinementParameters::<f64>::new()
-            .exclude_outer_faces(true)
+            .exclude_outer_faces(!by_winding)
             .with_angle_limit(AngleLimit::from_deg(MIN_ANGLE_DEG))
             .with_max_allowed_area(0.5 * h * h)
             // Elements a thousandth of the size asked for are not refined further.
@@ -538,7 +577,14 @@ impl Mesh {
         };
         let mut middles: HashMap<(u32, u32), u32> = HashMap::new();
         for face in cdt.inner_faces() {
-            if result.excluded_faces.contains(&face.fix()) {
+            let kept = if by_winding {
+                let [a, b, c] = face.positions();
+                let centre = Point::new((a.x + b.x + c.x) / 3.0, (a.y + b.y + c.y) / 3.0);
+                winding_number(&polygons, centre) == 1
+            } else {
+                !result.excluded_faces.contains(&face.fix())
+            };
+            if !kept {
                 continue;
             }
             let vs = face.vertices().map(|v| v.fix().index());
