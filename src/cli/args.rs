@@ -10,13 +10,17 @@ const CONVENTIONS: &str = "\
 Conventions: coordinates are the drawing's own, y up. Second moments (ixx, iyy) are about axes
 through the centroid parallel to x and y; ixy is the product of area, the integral of x*y dA
 with x, y from the centroid. theta_deg is the angle from +x to the principal axis about which
-the second moment is i1 (the larger), counter-clockwise positive, in (-90, 90].
+the second moment is i1 (the larger), counter-clockwise positive, in (-90, 90]. With
+--torsion: j is the St Venant torsion constant, (xs, ys) the shear centre (Trefftz) in drawing
+coordinates, iw the warping constant about it, torsion_accuracy the estimated relative error.
 
 Exit status: 0 every profile measured; 1 output written but some inputs or profiles failed
 (see rows with status=error); 2 usage or I/O error before any output.
 
-Safety: the results are geometric properties of the outline as drawn. They are not a strength
-check. Member design follows the applicable code and is signed off by a qualified engineer.";
+Safety: the results are geometric properties of the outline as drawn (torsion and warping
+constants: elastic section constants, to the stated accuracy). They are not a strength or
+buckling check. Member design follows the applicable code and is signed off by a qualified
+engineer.";
 
 #[derive(Debug, Parser)]
 #[command(name = "sectio", version, about = ABOUT, after_help = CONVENTIONS)]
