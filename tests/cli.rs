@@ -404,6 +404,7 @@ fn help_states_conventions_and_the_safety_caution() {
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.contains("counter-clockwise"), "{text}");
     assert!(text.contains("not a strength"), "{text}");
+    assert!(text.contains("buckling check"), "{text}");
     assert!(text.contains("qualified engineer"), "{text}");
 }
 

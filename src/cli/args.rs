@@ -19,8 +19,8 @@ Exit status: 0 every profile measured; 1 output written but some inputs or profi
 
 Safety: the results are geometric properties of the outline as drawn (torsion and warping
 constants: elastic section constants, to the stated accuracy). They are not a strength or
-buckling check. Member design follows the applicable code and is signed off by a qualified
-engineer.";
+buckling check. Member design follows the applicable code and is signed off by a
+qualified engineer.";
 
 #[derive(Debug, Parser)]
 #[command(name = "sectio", version, about = ABOUT, after_help = CONVENTIONS)]
