@@ -483,3 +483,42 @@ fn touching_and_overlapping_loops_give_a_result_or_a_reason() {
     assert_close!(t.j, u.j, rel = 2e-3);
     assert_close!(t.iw, u.iw, rel = 2e-3);
 }
+
+#[test]
+fn aluminum_association_channel_against_the_published_table() {
+    // Aluminum Association standard channel CS 4 × 1.74 (Aluminum Design Manual 2010,
+    // Table 4; check-values §5): d 4, b 2, tf 0.23, tw 0.15, root fillets R 0.25, square
+    // toes (inches, drawn here as drawing units). Published: J 0.0202 in⁴, Cw 1.65 in⁶,
+    // xo 1.38 in (shear centre to centroid), x̄ 0.653 in. The manual's J and Cw come from
+    // thin-walled formulas, so check-values gives tolerances against them of J ±8 %, Cw
+    // ±12 %, xo ±6 %, and its own exact finite-element values J 0.0213, Cw 1.52, xo 1.34
+    // (three digits: ±0.5 % here, plus the solver's accuracy).
+    let (d, b, tf, tw, r) = (4.0, 2.0, 0.23, 0.15, 0.25);
+    let k = -(PI / 8.0).tan(); // concave quarter circles of a counter-clockwise outline
+    let outline = poly(
+        &[
+            (0.0, 0.0),
+            (b, 0.0),
+            (b, tf),
+            (tw + r, tf),
+            (tw, tf + r),
+            (tw, d - tf - r),
+            (tw + r, d - tf),
+            (b, d - tf),
+            (b, d),
+            (0.0, d),
+        ],
+        &[0.0, 0.0, 0.0, k, 0.0, k, 0.0, 0.0, 0.0, 0.0],
+    );
+    let (s, t) = solve(vec![closed(outline)]);
+    assert_close!(s.centroid.x, 0.653, abs = 0.0005);
+    let xo = s.centroid.x - t.shear_centre.x; // the shear centre lies behind the web
+    assert_close!(t.j, 0.0202, rel = 0.08);
+    assert_close!(t.iw, 1.65, rel = 0.12);
+    assert_close!(xo, 1.38, rel = 0.06);
+    assert_close!(t.j, 0.0213, rel = 0.007);
+    assert_close!(t.iw, 1.52, rel = 0.007);
+    assert_close!(xo, 1.34, rel = 0.006);
+    // Symmetric about the horizontal line through the centroid.
+    assert_close!(t.shear_centre.y, d / 2.0, abs = 1e-9 * d);
+}
