@@ -14,6 +14,7 @@
 //! The results are geometric properties of the outline as drawn, not a strength check.
 
 pub mod analyze;
+pub mod check;
 pub mod cli;
 pub mod explain;
 pub mod fem;

@@ -34,6 +34,9 @@ pub enum Command {
     /// Measure every closed profile in DXF and SVG files or folders (searched recursively) and write one CSV row per profile.
     #[command(after_help = CONVENTIONS)]
     Measure(MeasureArgs),
+    /// Check a catalog's stated values (CSV or .xlsx: a drawing column, optionally a profile column, and columns named as measure names them, e.g. area_mm2, ixx_cm4) against its drawings, and write one row per value: stated, measured, difference, pass or fail.
+    #[command(after_help = CHECK_HELP)]
+    Check(CheckArgs),
     /// Explain what sectio makes of one DXF or SVG file: layers, skipped entities, the join gap, every loop and profile, and every problem, as plain text.
     #[command(after_help = EXPLAIN_HELP)]
     Explain(ExplainArgs),
@@ -49,6 +52,111 @@ file missing or unreadable).
 
 Safety: the results are geometric properties of the outline as drawn. They are not a strength
 check. Member design follows the applicable code and is signed off by a qualified engineer.";
+
+const CHECK_HELP: &str = "\
+The catalog: a header row, one row per profile. Column drawing names the drawing file
+(relative to the catalog); column profile (optional) says which profile in it: its number as
+measure numbers them, or its layer; a drawing holding one profile needs none. Value columns are
+named as measure names them, the unit taken from the name (area_cm2, ixx_mm4, j_in4,
+mass_kg_per_m); --map renames other headers. Delimited text: delimiter and decimal comma are
+found from the text unless given; UTF-8 with or without BOM. .xlsx: the first sheet.
+
+A value passes when |measured - stated| <= max(tolerance x |stated|, floor x the section's own
+magnitude of that dimension: A for areas, ip for second moments, A x r^(k-2) with r = sqrt(ip/A)
+for a length to the power k). Defaults: tolerance 1%, floor 0.1%.
+
+Exit status: 0 every value passes; 1 some value fails or a drawing is missing or unreadable;
+2 the catalog cannot be used (unreadable, no drawing column, no value column) or a usage error.
+
+Safety: the results are geometric properties of the outline as drawn. They are not a strength
+or buckling check. Member design follows the applicable code and is signed off by a
+qualified engineer.";
+
+/// A tolerance fraction: `1%`, `0.5 %`, `0.01`.
+fn fraction(text: &str) -> Result<f64, String> {
+    crate::check::parse_fraction(text)
+}
+
+/// `STEM=FRACTION`, e.g. `ixx=0.5%`.
+fn property_fraction(text: &str) -> Result<(String, f64), String> {
+    let (stem, f) = text
+        .split_once('=')
+        .ok_or_else(|| format!("expected PROPERTY=FRACTION such as ixx=0.5%, found {text:?}"))?;
+    let stem = crate::check::property_stem(stem).ok_or_else(|| {
+        format!(
+            "{stem:?} is not a property of measure (use the column's name without its unit, e.g. ixx, area, j, mass)"
+        )
+    })?;
+    Ok((stem.to_string(), crate::check::parse_fraction(f)?))
+}
+
+#[derive(Debug, clap::Args)]
+pub struct CheckArgs {
+    /// The catalog: delimited text (CSV, ';' or tab separated) or an .xlsx workbook.
+    #[arg(value_name = "CATALOG")]
+    pub catalog: PathBuf,
+
+    /// Write the results to FILE (atomically) instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+
+    /// Also write a Markdown summary (totals, tolerances, every failure) to FILE, for a merge request or a report.
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+
+    /// TOML file mapping the catalog's headers to measure's names ([columns] "Ix [cm4]" = "ixx_cm4", "Drawing file" = "drawing") and setting tolerances ([tolerances] default = "1%", ixx = "0.5%", floor = "0.1%").
+    #[arg(long, value_name = "FILE")]
+    pub map: Option<PathBuf>,
+
+    /// Relative tolerance for every property (e.g. 1% or 0.01), over the mapping file's. Default 1%.
+    #[arg(long, value_name = "FRACTION", value_parser = fraction)]
+    pub tolerance: Option<f64>,
+
+    /// Relative tolerance for one property, by the column's name without its unit (ixx=0.5%); repeatable.
+    #[arg(long, value_name = "PROPERTY=FRACTION", value_parser = property_fraction)]
+    pub tolerance_for: Vec<(String, f64)>,
+
+    /// Absolute floor, as a fraction of the section's own magnitude of the value's dimension (for values near zero, such as ixy of a symmetric section). Default 0.1%.
+    #[arg(long, value_name = "FRACTION", value_parser = fraction)]
+    pub floor: Option<f64>,
+
+    /// Delimiter of a text catalog (one character, e.g. ';'); found from the header line when not given.
+    #[arg(long, value_name = "CHAR")]
+    pub catalog_delimiter: Option<char>,
+
+    /// Decimal separator of a text catalog; found from its numbers when not given.
+    #[arg(long, value_name = "SEP", value_parser = ["comma", "point"])]
+    pub catalog_decimal: Option<String>,
+
+    #[command(flatten)]
+    pub read: ReadArgs,
+
+    /// Measure all profiles of each drawing as one section (built-up sections).
+    #[arg(long)]
+    pub merge: bool,
+
+    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1). Cannot be given with --material.
+    #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
+    pub density: f64,
+
+    /// Named material for mass_kg_per_m (aluminium, steel, stainless, pvc; see measure --help). Cannot be given with --density.
+    #[arg(
+        long,
+        value_enum,
+        ignore_case = true,
+        conflicts_with = "density",
+        value_name = "NAME"
+    )]
+    pub material: Option<MaterialArg>,
+
+    /// Relative accuracy of the torsion solver, when the catalog states j, xs, ys or iw.
+    #[arg(long, default_value_t = 1e-3, value_name = "REL", value_parser = accuracy)]
+    pub torsion_accuracy: f64,
+
+    /// Number of drawings measured in parallel (default: one per core).
+    #[arg(short = 'j', long, value_name = "N")]
+    pub jobs: Option<usize>,
+}
 
 /// The reading options of `explain`: the same flags, help and defaults as `measure`'s.
 /// How drawings are read: the options `measure` and `explain` share.

@@ -4,6 +4,7 @@
 
 pub mod args;
 pub mod batch;
+pub mod check;
 mod explain;
 
 use std::io::Write;
@@ -39,6 +40,7 @@ pub fn run(cli: Cli) -> anyhow::Result<i32> {
     match cli.command {
         Command::Measure(args) => measure(args),
         Command::Explain(args) => explain::explain(args),
+        Command::Check(args) => check::check(args),
     }
 }
 

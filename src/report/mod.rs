@@ -4,7 +4,7 @@
 
 pub mod csv_out;
 
-pub use csv_out::{csv_header, csv_records, write_csv, CsvFormat};
+pub use csv_out::{csv_header, csv_records, format_number, write_csv, CsvFormat};
 
 use crate::analyze::Outcome;
 use crate::import::LengthUnit;
@@ -144,6 +144,110 @@ impl Tiers {
     pub fn n_numeric(self) -> usize {
         self.columns().count()
     }
+}
+
+/// An optional tier of columns.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Tier {
+    Plastic,
+    Extrusion,
+    Torsion,
+}
+
+/// A numeric column named by a header such as `ixx_cm4`: its place among all numeric
+/// columns with every tier on ([`Tiers::ALL`], the order of [`numeric_values`]), its stem
+/// (`ixx`), the length power its value carries (0 for counts, angles, kg/m, m²/m), the unit
+/// the name states (millimetres for a column without a length), and its tier, if optional.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NamedColumn {
+    pub index: usize,
+    pub stem: &'static str,
+    pub power: i32,
+    pub unit: LengthUnit,
+    pub tier: Option<Tier>,
+}
+
+impl NamedColumn {
+    /// The column's name in `unit` (for columns with a length; others keep their name).
+    pub fn name_in(&self, unit: LengthUnit) -> String {
+        match self.power {
+            0 => self.stem.to_string(),
+            1 => format!("{}_{}", self.stem, unit.name),
+            p => format!("{}_{}{p}", self.stem, unit.name),
+        }
+    }
+    /// The column's own name, in the unit it was named with.
+    pub fn name(&self) -> String {
+        self.name_in(self.unit)
+    }
+}
+
+/// Every numeric column with its tier, in the order of [`numeric_values`] with every tier on.
+fn all_columns() -> impl Iterator<Item = (&'static (&'static str, Dim), Option<Tier>)> {
+    NUMERIC
+        .iter()
+        .map(|c| (c, None))
+        .chain(PLASTIC.iter().map(|c| (c, Some(Tier::Plastic))))
+        .chain(EXTRUSION.iter().map(|c| (c, Some(Tier::Extrusion))))
+        .chain(TORSION.iter().map(|c| (c, Some(Tier::Torsion))))
+}
+
+/// Every numeric column in millimetres, in the order of [`numeric_values`] with every tier on.
+pub fn all_named_columns() -> impl Iterator<Item = NamedColumn> {
+    all_columns()
+        .enumerate()
+        .map(|(index, ((stem, dim), tier))| NamedColumn {
+            index,
+            stem,
+            power: match dim {
+                Dim::None => 0,
+                Dim::L(k) => *k,
+            },
+            unit: LengthUnit::MM,
+            tier,
+        })
+}
+
+/// The numeric column a header names (`area_mm2`, `IXX_CM4`, `j_in4`, `mass_kg_per_m`; case
+/// and surrounding spaces ignored), in any of the output units mm, cm, m and in.
+pub fn parse_column(name: &str) -> Option<NamedColumn> {
+    let name = name.trim().to_ascii_lowercase();
+    for (index, ((stem, dim), tier)) in all_columns().enumerate() {
+        let (stem, tier) = (*stem, tier);
+        match dim {
+            Dim::None => {
+                if name == stem {
+                    return Some(NamedColumn {
+                        index,
+                        stem,
+                        power: 0,
+                        unit: LengthUnit::MM,
+                        tier,
+                    });
+                }
+            }
+            Dim::L(power) => {
+                for unit in [
+                    LengthUnit::MM,
+                    LengthUnit::CM,
+                    LengthUnit::M,
+                    LengthUnit::INCH,
+                ] {
+                    let c = NamedColumn {
+                        index,
+                        stem,
+                        power: *power,
+                        unit,
+                        tier,
+                    };
+                    if c.name() == name {
+                        return Some(c);
+                    }
+                }
+            }
+        }
+    }
+    None
 }
 
 /// Leading text columns.

@@ -1,0 +1,284 @@
+//! `sectio check CATALOG`: compare a catalog's stated values with its drawings.
+
+use std::collections::HashMap;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+use anyhow::{bail, Context};
+
+use super::args::CheckArgs;
+use super::{batch, read_settings, write_atomically, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE};
+use crate::analyze::{Outcome, Settings};
+use crate::check::{
+    compare, plan, read_catalog, summarize, Comparison, Mapping, Summary, TextOptions,
+};
+use crate::fem::TorsionSettings;
+use crate::report::format_number;
+
+/// Exit status: the catalog cannot be used (unreadable, no drawing column, no value column).
+pub const EXIT_UNUSABLE_CATALOG: i32 = EXIT_USAGE;
+
+/// Columns of the result table, in order.
+pub const RESULT_HEADER: [&str; 12] = [
+    "line",
+    "label",
+    "drawing",
+    "profile",
+    "property",
+    "stated",
+    "measured",
+    "difference",
+    "relative_difference",
+    "allowed",
+    "status",
+    "reason",
+];
+
+pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
+    let started = Instant::now();
+    let mut mapping = match &args.map {
+        Some(path) => {
+            let text = std::fs::read_to_string(path)
+                .with_context(|| format!("cannot read the mapping file {}", path.display()))?;
+            Mapping::parse(&text).map_err(|e| anyhow::anyhow!("{}: {e}", path.display()))?
+        }
+        None => Mapping::default(),
+    };
+    if let Some(t) = args.tolerance {
+        mapping.tolerances.default = t;
+    }
+    for (stem, t) in &args.tolerance_for {
+        mapping.tolerances.per_property.insert(stem.clone(), *t);
+    }
+    if let Some(f) = args.floor {
+        mapping.tolerances.floor = f;
+    }
+    if !(args.density.is_finite() && args.density > 0.0) {
+        bail!("--density must be a positive number of kg/m³");
+    }
+    let density = args.material.map_or(args.density, |m| m.density_kg_m3());
+
+    let table = match read_catalog(
+        &args.catalog,
+        TextOptions {
+            delimiter: args.catalog_delimiter.map(|c| c as u8),
+            decimal_comma: args.catalog_decimal.map(|d| d == "comma"),
+        },
+    ) {
+        Ok(t) => t,
+        Err(e) => return unusable(&e),
+    };
+    let plan = match plan(&table, &mapping) {
+        Ok(p) => p,
+        Err(e) => return unusable(&format!("{}: {e}", args.catalog.display())),
+    };
+    if !plan.ignored.is_empty() {
+        eprintln!(
+            "sectio: not compared (no such column in measure; --map can rename them): {}",
+            plan.ignored.join(", ")
+        );
+    }
+
+    // Measure every drawing named, once, in parallel.
+    let base = args
+        .catalog
+        .parent()
+        .map_or_else(|| PathBuf::from("."), Path::to_path_buf);
+    let mut named: Vec<String> = table
+        .rows
+        .iter()
+        .filter_map(|r| r.cells.get(plan.drawing).map(|c| c.text()))
+        .filter(|d| !d.trim().is_empty())
+        .collect();
+    named.sort();
+    named.dedup();
+    let paths: Vec<PathBuf> = named.iter().map(|d| base.join(d.trim())).collect();
+    let tiers = plan.tiers();
+    let read = read_settings(&args.read, false)?;
+    let settings = Settings {
+        merge: args.merge,
+        plastic: tiers.plastic,
+        extrusion: tiers.extrusion,
+        torsion: tiers.torsion.then_some(TorsionSettings {
+            accuracy: args.torsion_accuracy,
+            ..TorsionSettings::default()
+        }),
+        ..read
+    };
+    let existing: Vec<PathBuf> = paths.iter().filter(|p| p.is_file()).cloned().collect();
+    let batch = batch::run_batch(&existing, &settings, args.jobs, |_| ())?;
+    let mut by_file: HashMap<String, Vec<Outcome>> = HashMap::new();
+    for row in batch.rows {
+        by_file.entry(row.file).or_default().push(row.outcome);
+    }
+    let measured = |drawing: &str| -> Result<Vec<Outcome>, String> {
+        let path = base.join(drawing.trim());
+        if !path.is_file() {
+            return Err(format!("drawing missing: {}", path.display()));
+        }
+        by_file
+            .get(&path.display().to_string())
+            .cloned()
+            .ok_or_else(|| format!("drawing not read: {}", path.display()))
+    };
+    let missing = table
+        .rows
+        .iter()
+        .filter(|r| {
+            let d = r
+                .cells
+                .get(plan.drawing)
+                .map(|c| c.text())
+                .unwrap_or_default();
+            d.trim().is_empty() || !base.join(d.trim()).is_file()
+        })
+        .count();
+    let results = compare(&table, &plan, &mapping.tolerances, density, &measured);
+    let summary = summarize(table.rows.len(), &results, missing);
+
+    let csv = results_csv(&results)?;
+    match &args.output {
+        Some(path) => write_atomically(path, |w| w.write_all(&csv))
+            .with_context(|| format!("cannot write {}", path.display()))?,
+        None => {
+            let stdout = std::io::stdout();
+            let mut lock = stdout.lock();
+            lock.write_all(&csv)
+                .and_then(|_| lock.flush())
+                .context("cannot write to standard output")?;
+        }
+    }
+    if let Some(path) = &args.summary {
+        let md = markdown_summary(&args.catalog, &summary, &results, &mapping);
+        write_atomically(path, |w| w.write_all(md.as_bytes()))
+            .with_context(|| format!("cannot write {}", path.display()))?;
+    }
+    eprintln!(
+        "sectio check: {} profiles, {} values compared, {} passed, {} failed, {} missing drawings, {:.2} s",
+        summary.profiles,
+        summary.values,
+        summary.passed,
+        summary.failed,
+        summary.missing_drawings,
+        started.elapsed().as_secs_f64()
+    );
+    Ok(if summary.failed > 0 || summary.missing_drawings > 0 {
+        EXIT_SOME_FAILED
+    } else {
+        EXIT_OK
+    })
+}
+
+/// Report an unusable catalog and give its exit status.
+fn unusable(message: &str) -> anyhow::Result<i32> {
+    eprintln!("sectio check: unusable catalog: {message}");
+    Ok(EXIT_UNUSABLE_CATALOG)
+}
+
+fn number(v: Option<f64>) -> String {
+    v.filter(|x| x.is_finite())
+        .map_or_else(String::new, |x| format_number(x, false))
+}
+
+/// The cells of one result row, as text, in the order of [`RESULT_HEADER`].
+pub fn result_cells(c: &Comparison) -> [String; 12] {
+    [
+        c.line.to_string(),
+        c.label.clone(),
+        c.drawing.clone(),
+        c.profile.clone(),
+        c.property.clone(),
+        number(c.stated),
+        number(c.measured),
+        number(c.difference()),
+        number(c.relative_difference()),
+        number(c.allowed),
+        if c.pass { "pass" } else { "fail" }.to_string(),
+        c.reason.clone(),
+    ]
+}
+
+/// The results as CSV: a header, then one record per stated value.
+fn results_csv(results: &[Comparison]) -> std::io::Result<Vec<u8>> {
+    let mut w = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::CRLF)
+        .from_writer(Vec::new());
+    w.write_record(RESULT_HEADER)?;
+    for c in results {
+        w.write_record(result_cells(c))?;
+    }
+    w.into_inner().map_err(|e| e.into_error())
+}
+
+/// A Markdown summary for a merge request: totals, tolerances, and every failure.
+pub fn markdown_summary(
+    catalog: &Path,
+    s: &Summary,
+    results: &[Comparison],
+    mapping: &Mapping,
+) -> String {
+    let mut md = String::new();
+    let verdict = if s.failed == 0 && s.missing_drawings == 0 {
+        "all values agree"
+    } else {
+        "some values disagree"
+    };
+    md.push_str(&format!(
+        "# Catalog check: {}\n\n**{verdict}**: {} of {} values pass.\n\n",
+        catalog.display(),
+        s.passed,
+        s.values
+    ));
+    md.push_str("| profiles | values compared | passed | failed | missing drawings |\n");
+    md.push_str("|---:|---:|---:|---:|---:|\n");
+    md.push_str(&format!(
+        "| {} | {} | {} | {} | {} |\n\n",
+        s.profiles, s.values, s.passed, s.failed, s.missing_drawings
+    ));
+    let mut per: Vec<(&String, &f64)> = mapping.tolerances.per_property.iter().collect();
+    per.sort_by(|a, b| a.0.cmp(b.0));
+    md.push_str(&format!(
+        "Tolerance: {}% of the stated value{}, at least {}% of the section's own magnitude \
+         (for values near zero).\n\n",
+        mapping.tolerances.default * 100.0,
+        per.iter()
+            .map(|(k, v)| format!(", {k} {}%", *v * 100.0))
+            .collect::<String>(),
+        mapping.tolerances.floor * 100.0
+    ));
+    let failures: Vec<&Comparison> = results.iter().filter(|c| !c.pass).collect();
+    if !failures.is_empty() {
+        md.push_str("## Failures\n\n");
+        md.push_str("| line | part | drawing | profile | property | stated | measured | difference | reason |\n");
+        md.push_str("|---:|---|---|---|---|---:|---:|---:|---|\n");
+        for c in failures {
+            let rel = c
+                .relative_difference()
+                .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0));
+            md.push_str(&format!(
+                "| {} | {} | {} | {} | {} | {} | {} | {}{} | {} |\n",
+                c.line,
+                escape_md(&c.label),
+                escape_md(&c.drawing),
+                escape_md(&c.profile),
+                c.property,
+                number(c.stated),
+                number(c.measured),
+                number(c.difference()),
+                rel,
+                escape_md(&c.reason)
+            ));
+        }
+        md.push('\n');
+    }
+    md.push_str(
+        "Geometric properties of the outlines as drawn; not a strength check. Member design \
+         follows the applicable code and a qualified engineer.\n",
+    );
+    md
+}
+
+fn escape_md(s: &str) -> String {
+    s.replace('|', "\\|").replace('\n', " ")
+}
