@@ -13,14 +13,17 @@
 //!   ∬ ∇ω·∇v dA = ∬ (y·∂v/∂x − x·∂v/∂y) dA   for every v.
 //!
 //! With 6-node triangles this is K·ω = F. K is singular (ω is defined up to a constant on each
-//! connected piece), so one node per piece is held at zero and the rest is solved by sparse
-//! Cholesky (faer); F sums to zero on each piece, so the system is consistent.
+//! connected piece), so one node per piece is held at zero (its row and column made an
+//! identity) and the rest solved: on the first mesh by sparse Cholesky (faer), on its
+//! refinements by conjugate gradients with a multigrid preconditioner
+//! ([`super::multigrid`]). F sums to zero on each piece, so the system is consistent.
 //!
 //! ## What is computed from ω (all about the frame origin, which is the centroid)
 //!
 //! - Torsion constant J = ∬ (x² + y² + x·∂ω/∂y − y·∂ω/∂x) dA (Pilkey §6.1). The first part
 //!   is the polar moment Ip, taken from the exact boundary integrals; the second is
-//!   −ωᵀF = −ωᵀKω for the finite-element ω. Galerkin's method makes ωᵀKω converge from below
+//!   −ωᵀKω for the finite-element ω, taken as −(2ωᵀF − ωᵀKω), which differs from it only by
+//!   the square of the iterative solver's error. Galerkin's method makes ωᵀKω converge from below
 //!   on nested meshes, so J converges from above.
 //! - Shear centre (Trefftz's definition, Pilkey §6.3): the pole P = (a, b) about which the
 //!   warping function ω_P = ω − b·x + a·y + c has ∬ ω_P dA = ∬ x·ω_P dA = ∬ y·ω_P dA = 0
