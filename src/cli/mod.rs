@@ -133,7 +133,7 @@ fn shell_word(text: &str) -> String {
     let plain = !text.is_empty()
         && text
             .chars()
-            .all(|c| c.is_alphanumeric() || "-_./:=+,@%^".contains(c));
+            .all(|c| c.is_alphanumeric() || "-_./:=+,@%".contains(c));
     if plain {
         text.to_string()
     } else {
@@ -310,4 +310,22 @@ pub fn write_atomically(
     tmp.as_file().sync_all().ok();
     tmp.persist(path)?;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::shell_word;
+
+    #[test]
+    fn shell_words_are_quoted_where_needed() {
+        assert_eq!(shell_word("measure"), "measure");
+        assert_eq!(shell_word("--units=cm"), "--units=cm");
+        assert_eq!(shell_word("drawings/HV-204.dxf"), "drawings/HV-204.dxf");
+        assert_eq!(shell_word("Größe.dxf"), "Größe.dxf");
+        assert_eq!(shell_word(""), "''");
+        assert_eq!(shell_word("my drawings"), "'my drawings'");
+        assert_eq!(shell_word("*.dxf"), "'*.dxf'");
+        assert_eq!(shell_word("$HOME"), "'$HOME'");
+        assert_eq!(shell_word("it's"), "'it'\\''s'");
+    }
 }
