@@ -111,7 +111,7 @@ fn synthetic(target: usize) -> String {
     while s.len() < target {
         k += 1;
         handle += 1;
-        let short = k % 2 == 0;
+        let short = k.is_multiple_of(2);
         let num = |s: &mut String, code: u32, v: f64| {
             if short {
                 let _ = write!(s, "{code:>3}\n{v:.6}\n");

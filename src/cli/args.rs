@@ -229,6 +229,14 @@ impl MaterialArg {
     }
 }
 
+/// Output formats of `measure`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum FormatArg {
+    Csv,
+    Jsonl,
+    Xlsx,
+}
+
 /// Output and assumed length units.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum UnitArg {
@@ -244,9 +252,13 @@ pub struct MeasureArgs {
     #[arg(required = true, value_name = "PATH")]
     pub paths: Vec<PathBuf>,
 
-    /// Write the CSV to FILE (atomically: a temporary file renamed at the end) instead of standard output.
+    /// Write the output to FILE (atomically: a temporary file renamed at the end) instead of standard output. Its extension picks the format unless --format is given: .xlsx, .jsonl or .ndjson, else CSV.
     #[arg(short, long, value_name = "FILE")]
     pub output: Option<PathBuf>,
+
+    /// Output format: csv (one row per profile), jsonl (one JSON object per line, keys = the CSV header, numbers as JSON numbers, null where the CSV is empty) or xlsx (an Excel workbook: numbers as numbers, error rows highlighted, a "run" sheet saying how it was made; needs -o). Default: from the extension of -o, CSV on standard output.
+    #[arg(long, value_enum, value_name = "FORMAT")]
+    pub format: Option<FormatArg>,
 
     /// Length unit of the output columns; the header names carry it (area_mm2, ixx_in4, ...).
     #[arg(long, value_enum, default_value = "mm")]
@@ -301,11 +313,11 @@ pub struct MeasureArgs {
     #[arg(short = 'j', long, value_name = "N")]
     pub jobs: Option<usize>,
 
-    /// Field delimiter (one character, e.g. ';' or 'tab'). Default ',' (';' with --decimal-comma).
+    /// CSV only: field delimiter (one character, e.g. ';' or 'tab'). Default ',' (';' with --decimal-comma).
     #[arg(long, value_name = "CHAR")]
     pub delimiter: Option<String>,
 
-    /// Write decimal commas (1234,5) for spreadsheets in locales that expect them.
+    /// CSV only: write decimal commas (1234,5) for spreadsheets in locales that expect them.
     #[arg(long)]
     pub decimal_comma: bool,
 }

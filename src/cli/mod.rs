@@ -8,16 +8,20 @@ pub mod check;
 mod explain;
 
 use std::io::Write;
-use std::path::Path;
-use std::time::Instant;
+use std::path::{Path, PathBuf};
+use std::time::{Instant, SystemTime};
 
 use anyhow::{bail, Context};
+use clap::ValueEnum;
 
 use crate::analyze::Settings;
 use crate::fem::TorsionSettings;
 use crate::import::{LengthUnit, ReadOptions};
-use crate::report::{csv_header, csv_records, CsvFormat, Tiers};
-use args::{Cli, Command, MeasureArgs, ReadArgs, UnitArg};
+use crate::report::table::utc_date_time;
+use crate::report::{
+    csv_header, csv_records, measure_table, write_jsonl, xlsx_bytes, CsvFormat, RunRecord, Tiers,
+};
+use args::{Cli, Command, FormatArg, MeasureArgs, ReadArgs, UnitArg};
 
 /// Exit status: every profile measured.
 pub const EXIT_OK: i32 = 0;
@@ -86,8 +90,102 @@ fn read_settings(read: &ReadArgs, census: bool) -> anyhow::Result<Settings> {
     })
 }
 
+/// The safety caution every output that lists properties carries.
+pub(crate) const CAUTION: &str = "Geometric properties of the outline as drawn; not a strength check; member design follows the applicable code and a qualified engineer.";
+
+/// The output format: `--format`, else from the extension of `-o` (`.xlsx`; `.jsonl` or
+/// `.ndjson`; anything else CSV), else CSV. An .xlsx workbook needs `-o`, and the CSV
+/// options do not apply to the others: usage errors.
+fn output_format(args: &MeasureArgs) -> anyhow::Result<FormatArg> {
+    let by_extension = || {
+        let ext = args
+            .output
+            .as_deref()
+            .and_then(Path::extension)
+            .map(|e| e.to_string_lossy().to_ascii_lowercase());
+        match ext.as_deref() {
+            Some("xlsx") => FormatArg::Xlsx,
+            Some("jsonl") | Some("ndjson") => FormatArg::Jsonl,
+            _ => FormatArg::Csv,
+        }
+    };
+    let format = args.format.unwrap_or_else(by_extension);
+    let name = match format {
+        FormatArg::Csv => return Ok(format),
+        FormatArg::Jsonl => "jsonl",
+        FormatArg::Xlsx => "xlsx",
+    };
+    if format == FormatArg::Xlsx && args.output.is_none() {
+        bail!("--format xlsx writes a workbook, not text: give a file with -o (e.g. -o sections.xlsx)");
+    }
+    if args.delimiter.is_some() || args.decimal_comma {
+        let flag = if args.delimiter.is_some() {
+            "--delimiter"
+        } else {
+            "--decimal-comma"
+        };
+        bail!("{flag} applies to CSV output only, not to {name} (numbers there are numbers, not text)");
+    }
+    Ok(format)
+}
+
+/// `text` as one word for a POSIX shell: unchanged when it holds only characters no shell
+/// treats specially, else in single quotes (a quote inside as `'\''`).
+fn shell_word(text: &str) -> String {
+    let plain = !text.is_empty()
+        && text
+            .chars()
+            .all(|c| c.is_alphanumeric() || "-_./:=+,@%".contains(c));
+    if plain {
+        text.to_string()
+    } else {
+        format!("'{}'", text.replace('\'', "'\\''"))
+    }
+}
+
+/// The command line this process was started with, quoted for a shell where needed.
+pub(crate) fn command_line() -> String {
+    std::env::args_os()
+        .map(|a| shell_word(&a.to_string_lossy()))
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// The run record of any command: tool, version, command line, date and time (UTC).
+pub(crate) fn run_record_start() -> RunRecord {
+    let mut run = RunRecord::default();
+    run.push("tool", "sectio");
+    run.push("version", env!("CARGO_PKG_VERSION"));
+    run.push("command line", command_line());
+    run.push("date (UTC)", utc_date_time(SystemTime::now()));
+    run
+}
+
+/// The run record of `measure`.
+fn measure_run_record(args: &MeasureArgs, format: &CsvFormat, files: &[PathBuf]) -> RunRecord {
+    let mut run = run_record_start();
+    run.push("units", format.unit.name);
+    let material = args
+        .material
+        .and_then(|m| m.to_possible_value())
+        .map(|v| format!(" ({})", v.get_name()));
+    let density = format!(
+        "{} kg/m³{}",
+        format.density_kg_m3,
+        material.unwrap_or_default()
+    );
+    run.push("density", density);
+    run.push("files", files.len().to_string());
+    for f in files {
+        run.push("input", f.display().to_string());
+    }
+    run.push("caution", CAUTION);
+    run
+}
+
 fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     let started = Instant::now();
+    let output_format = output_format(&args)?;
     let delimiter = parse_delimiter(args.delimiter.as_deref(), args.decimal_comma)?;
     if !(args.density.is_finite() && args.density > 0.0) {
         bail!("--density must be a positive number of kg/m³");
@@ -123,18 +221,34 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         density_kg_m3: args.material.map_or(args.density, |m| m.density_kg_m3()),
         tiers,
     };
+    // CSV records are formatted on the worker threads; the other formats are built from
+    // all rows at the end.
+    let csv = output_format == FormatArg::Csv;
     let batch = batch::run_batch(&files, &settings, args.jobs, |rows| {
-        csv_records(rows, &format)
+        csv.then(|| csv_records(rows, &format))
     })?;
     let rows = batch.rows;
+    let xlsx = match output_format {
+        FormatArg::Xlsx => {
+            let run = measure_run_record(&args, &format, &files);
+            Some(xlsx_bytes(&[measure_table(&rows, &format)], &run)?)
+        }
+        _ => None,
+    };
     let write = |w: &mut dyn Write| -> std::io::Result<()> {
-        w.write_all(&csv_header(&format)?)?;
-        for chunk in &batch.rendered {
-            w.write_all(
-                chunk
-                    .as_ref()
-                    .map_err(|e| std::io::Error::new(e.kind(), e.to_string()))?,
-            )?;
+        match (&xlsx, output_format) {
+            (Some(workbook), _) => w.write_all(workbook)?,
+            (None, FormatArg::Jsonl) => write_jsonl(w, &measure_table(&rows, &format))?,
+            (None, _) => {
+                w.write_all(&csv_header(&format)?)?;
+                for chunk in batch.rendered.iter().flatten() {
+                    w.write_all(
+                        chunk
+                            .as_ref()
+                            .map_err(|e| std::io::Error::new(e.kind(), e.to_string()))?,
+                    )?;
+                }
+            }
         }
         w.flush()
     };
@@ -198,4 +312,22 @@ pub fn write_atomically(
     tmp.as_file().sync_all().ok();
     tmp.persist(path)?;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::shell_word;
+
+    #[test]
+    fn shell_words_are_quoted_where_needed() {
+        assert_eq!(shell_word("measure"), "measure");
+        assert_eq!(shell_word("--units=cm"), "--units=cm");
+        assert_eq!(shell_word("drawings/HV-204.dxf"), "drawings/HV-204.dxf");
+        assert_eq!(shell_word("Größe.dxf"), "Größe.dxf");
+        assert_eq!(shell_word(""), "''");
+        assert_eq!(shell_word("my drawings"), "'my drawings'");
+        assert_eq!(shell_word("*.dxf"), "'*.dxf'");
+        assert_eq!(shell_word("$HOME"), "'$HOME'");
+        assert_eq!(shell_word("it's"), "'it'\\''s'");
+    }
 }

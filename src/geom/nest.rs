@@ -719,7 +719,7 @@ pub fn nest(
     let mut slots: Vec<Option<Loop>> = loops.into_iter().map(Some).collect();
     let mut profiles: Vec<Profile> = Vec::new();
     for &i in &order {
-        if depth[i] % 2 == 0 && !duplicate[i] {
+        if depth[i].is_multiple_of(2) && !duplicate[i] {
             // `slots[i]` is taken exactly once, here or as a hole below.
             if let Some(mut outer) = slots[i].take() {
                 if !drawn_ccw[i] {

@@ -3,8 +3,10 @@
 //! Renaming a column is a format change: record it in CHANGELOG.md.
 
 pub mod csv_out;
+pub mod table;
 
 pub use csv_out::{csv_header, csv_records, format_number, write_csv, CsvFormat};
+pub use table::{measure_table, write_jsonl, xlsx_bytes, Cell, RunRecord, Table, XlsxError};
 
 use crate::analyze::Outcome;
 use crate::import::LengthUnit;

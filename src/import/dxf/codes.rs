@@ -1396,9 +1396,9 @@ mod tests {
         for _ in 0..300_000 {
             let n_int = (next() % 8) as usize; // 0..=7
             let n_frac = (next() % 20) as usize;
-            let with_point = n_frac > 0 || next() % 4 == 0;
+            let with_point = n_frac > 0 || next().is_multiple_of(4);
             let mut text = String::new();
-            if next() % 2 == 0 {
+            if next().is_multiple_of(2) {
                 text.push('-');
             }
             for _ in 0..n_int {
