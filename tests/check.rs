@@ -364,3 +364,156 @@ fn unusable_catalogs_exit_2() {
     let run = check(&[no_values.to_str().unwrap(), "--tolerance-for", "colour=1%"]);
     assert_eq!(run.code, 2);
 }
+
+/// The zip entry `name` of an .xlsx file, as text.
+fn zip_part(bytes: &[u8], name: &str) -> String {
+    use std::io::Read;
+    let mut archive = zip::ZipArchive::new(std::io::Cursor::new(bytes)).expect("a zip file");
+    let mut text = String::new();
+    archive
+        .by_name(name)
+        .unwrap_or_else(|_| panic!("no part {name}"))
+        .read_to_string(&mut text)
+        .expect("UTF-8 XML");
+    text
+}
+
+#[test]
+fn results_as_xlsx_keep_numbers_and_highlight_failures_and_jsonl_agrees() {
+    use calamine::{Data, Reader, Xlsx};
+    let dir = tempfile::tempdir().expect("temp");
+    let out = dir.path().join("results.xlsx");
+    let run = check(&[
+        &demo("catalog.csv"),
+        "--layer",
+        "PROFILE",
+        "-o",
+        out.to_str().expect("utf-8"),
+    ]);
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let bytes = std::fs::read(&out).expect("workbook written");
+    let mut book: Xlsx<_> = Xlsx::new(std::io::Cursor::new(bytes.clone())).expect("calamine");
+    assert_eq!(book.sheet_names(), ["results", "summary", "run"]);
+    let results = book.worksheet_range("results").expect("results sheet");
+    let rows: Vec<&[Data]> = results.rows().collect();
+    assert_eq!(rows.len(), 56, "header and 55 values");
+    let header: Vec<String> = rows[0].iter().map(|c| c.to_string()).collect();
+    assert_eq!(
+        header[..6],
+        ["line", "label", "drawing", "profile", "property", "stated"]
+    );
+    let col = |name: &str| header.iter().position(|h| h == name).expect("column");
+    let mut failed_rows = Vec::new();
+    for (k, r) in rows.iter().enumerate().skip(1) {
+        assert!(matches!(r[col("stated")], Data::Float(_)), "{r:?}");
+        assert!(matches!(r[col("measured")], Data::Float(_)), "{r:?}");
+        assert!(matches!(r[col("line")], Data::Float(_)), "{r:?}");
+        if r[col("status")] == Data::String("fail".into()) {
+            failed_rows.push(k + 1); // 1-based sheet row
+        }
+    }
+    assert_eq!(failed_rows.len(), 4);
+    // The same values as JSON Lines.
+    let jsonl = Command::new(BIN)
+        .args([
+            "check",
+            &demo("catalog.csv"),
+            "--layer",
+            "PROFILE",
+            "--format",
+            "jsonl",
+        ])
+        .output()
+        .expect("run");
+    let lines: Vec<serde_json::Value> = jsonl
+        .stdout
+        .split(|&b| b == b'\n')
+        .filter(|l| !l.is_empty())
+        .map(|l| serde_json::from_slice(l).expect("a JSON object"))
+        .collect();
+    assert_eq!(lines.len(), 55);
+    for (k, obj) in lines.iter().enumerate() {
+        let measured = obj["measured"].as_f64().expect("number");
+        assert_eq!(Data::Float(measured), rows[k + 1][col("measured")]);
+    }
+    // Failing rows carry one style, different from passing rows'.
+    let sheet = zip_part(&bytes, "xl/worksheets/sheet1.xml");
+    let doc = roxmltree::Document::parse(&sheet).expect("sheet XML");
+    let style = |row: usize| -> String {
+        doc.descendants()
+            .find(|n| n.has_tag_name("row") && n.attribute("r") == Some(&row.to_string()))
+            .and_then(|n| n.children().find(|c| c.has_tag_name("c")))
+            .and_then(|c| c.attribute("s"))
+            .unwrap_or("0")
+            .to_string()
+    };
+    let fail_style = style(failed_rows[0]);
+    assert!(failed_rows.iter().all(|&r| style(r) == fail_style));
+    assert_ne!(style(2), fail_style, "row 2 passes");
+    // Summary and run sheets.
+    let summary = book.worksheet_range("summary").expect("summary sheet");
+    let items: HashMap<String, Data> = summary
+        .rows()
+        .skip(1)
+        .map(|r| (r[0].to_string(), r[1].clone()))
+        .collect();
+    assert_eq!(items["failed"], Data::Float(4.0));
+    assert_eq!(items["values compared"], Data::Float(55.0));
+    let run_sheet = book.worksheet_range("run").expect("run sheet");
+    let keys: Vec<String> = run_sheet.rows().map(|r| r[0].to_string()).collect();
+    for k in ["version", "catalog", "density", "input", "caution"] {
+        assert!(keys.iter().any(|x| x == k), "{k} in {keys:?}");
+    }
+}
+
+#[test]
+fn an_xlsx_catalog_is_read_like_its_text() {
+    // The channel and the tube again, in a workbook: numbers as number cells; and a third
+    // row whose area is stored as text ("4,800"), which is ambiguous (4.8 or 4800) and so
+    // not taken for a number.
+    let dir = tempfile::tempdir().expect("temp");
+    let path = dir.path().join("catalog.xlsx");
+    let mut book = rust_xlsxwriter::Workbook::new();
+    let sheet = book.add_worksheet();
+    for (c, h) in ["Part", "drawing", "area_cm2", "ixx_mm4"]
+        .iter()
+        .enumerate()
+    {
+        sheet.write_string(0, c as u16, *h).expect("cell");
+    }
+    let rows = [
+        ("HV-204", "04_hv-204_channel-80x40x4.dxf", 7.010, 93510.0),
+        ("HV-152", "02_hv-152_tube-50x3.dxf", 4.430, 122800.0),
+    ];
+    for (r, (part, drawing, area, ixx)) in rows.iter().enumerate() {
+        let r = r as u32 + 1;
+        sheet.write_string(r, 0, *part).expect("cell");
+        sheet.write_string(r, 1, demo(drawing)).expect("cell");
+        sheet.write_number(r, 2, *area).expect("cell");
+        sheet.write_number(r, 3, *ixx).expect("cell");
+    }
+    sheet.write_string(3, 0, "HV-318").expect("cell");
+    sheet
+        .write_string(3, 1, demo("03_hv-318_angle-60x40x5.dxf"))
+        .expect("cell");
+    sheet.write_string(3, 2, "4,800").expect("cell");
+    book.save(&path).expect("saved");
+    let run = check(&[path.to_str().expect("utf-8"), "--layer", "PROFILE"]);
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let area: Vec<&ResultRow> = run
+        .results
+        .iter()
+        .filter(|r| r.s("property") == "area_cm2")
+        .collect();
+    assert_eq!(area.len(), 3);
+    assert_eq!(area[0].s("status"), "pass");
+    assert_eq!(area[0].s("label"), "HV-204");
+    assert_eq!(area[0].s("line"), "2", "sheet row");
+    assert_eq!(area[1].s("status"), "pass");
+    // A number stored as text is not a number to compare: a failure that says so.
+    assert!(
+        area[2].s("reason").contains("not a number"),
+        "{:?}",
+        area[2]
+    );
+}

@@ -72,6 +72,43 @@ Safety: the results are geometric properties of the outline as drawn. They are n
 or buckling check. Member design follows the applicable code and is signed off by a
 qualified engineer.";
 
+/// The density for `mass_kg_per_m`: by number or by material (`measure` and `check`).
+#[derive(Debug, Clone, Copy, clap::Args)]
+pub struct MassArgs {
+    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1); steel is 7850. Cannot be given with --material.
+    #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
+    pub density: f64,
+
+    /// Named material for mass_kg_per_m, case-insensitive: aluminium (2700 kg/m³, EN 1999-1-1), steel (7850, EN 1993-1-1 tables basis), stainless (7900, EN 10088-1 austenitic grades), pvc (1400, common practice for rigid PVC). Cannot be given with --density.
+    #[arg(
+        long,
+        value_enum,
+        ignore_case = true,
+        conflicts_with = "density",
+        value_name = "NAME"
+    )]
+    pub material: Option<MaterialArg>,
+}
+
+impl MassArgs {
+    /// The density in kg/m³; a non-positive or non-finite `--density` is a usage error.
+    pub fn density_kg_m3(&self) -> Result<f64, String> {
+        if !(self.density.is_finite() && self.density > 0.0) {
+            return Err("--density must be a positive number of kg/m³".into());
+        }
+        Ok(self.material.map_or(self.density, |m| m.density_kg_m3()))
+    }
+
+    /// The density as the run record states it, e.g. `7850 kg/m³ (steel)`.
+    pub fn describe(&self, density: f64) -> String {
+        let material = self
+            .material
+            .and_then(|m| m.to_possible_value())
+            .map(|v| format!(" ({})", v.get_name()));
+        format!("{density} kg/m³{}", material.unwrap_or_default())
+    }
+}
+
 /// A tolerance fraction: `1%`, `0.5 %`, `0.01`.
 fn fraction(text: &str) -> Result<f64, String> {
     crate::check::parse_fraction(text)
@@ -99,6 +136,10 @@ pub struct CheckArgs {
     /// Write the results to FILE (atomically) instead of standard output.
     #[arg(short, long, value_name = "FILE")]
     pub output: Option<PathBuf>,
+
+    /// Results format: csv, jsonl (one JSON object per line) or xlsx (a workbook: results with failures highlighted, a summary sheet and a run sheet; needs -o). Default: from the extension of -o, CSV on standard output.
+    #[arg(long, value_enum, value_name = "FORMAT")]
+    pub format: Option<FormatArg>,
 
     /// Also write a Markdown summary (totals, tolerances, every failure) to FILE, for a merge request or a report.
     #[arg(long, value_name = "FILE")]
@@ -135,19 +176,8 @@ pub struct CheckArgs {
     #[arg(long)]
     pub merge: bool,
 
-    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1). Cannot be given with --material.
-    #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
-    pub density: f64,
-
-    /// Named material for mass_kg_per_m (aluminium, steel, stainless, pvc; see measure --help). Cannot be given with --density.
-    #[arg(
-        long,
-        value_enum,
-        ignore_case = true,
-        conflicts_with = "density",
-        value_name = "NAME"
-    )]
-    pub material: Option<MaterialArg>,
+    #[command(flatten)]
+    pub mass: MassArgs,
 
     /// Relative accuracy of the torsion solver, when the catalog states j, xs, ys or iw.
     #[arg(long, default_value_t = 1e-3, value_name = "REL", value_parser = accuracy)]
@@ -295,19 +325,8 @@ pub struct MeasureArgs {
     #[arg(long)]
     pub all: bool,
 
-    /// Density in kg/m³ for mass_kg_per_m. Default: aluminium, 2700 kg/m³ (EN 1999-1-1); steel is 7850. Cannot be given with --material.
-    #[arg(long, default_value_t = 2700.0, value_name = "KG_M3")]
-    pub density: f64,
-
-    /// Named material for mass_kg_per_m, case-insensitive: aluminium (2700 kg/m³, EN 1999-1-1), steel (7850, EN 1993-1-1 tables basis), stainless (7900, EN 10088-1 austenitic grades), pvc (1400, common practice for rigid PVC). Cannot be given with --density.
-    #[arg(
-        long,
-        value_enum,
-        ignore_case = true,
-        conflicts_with = "density",
-        value_name = "NAME"
-    )]
-    pub material: Option<MaterialArg>,
+    #[command(flatten)]
+    pub mass: MassArgs,
 
     /// Number of files processed in parallel (default: one per core). The output is the same for any value.
     #[arg(short = 'j', long, value_name = "N")]

@@ -5,16 +5,19 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
-use anyhow::{bail, Context};
+use anyhow::Context;
 
-use super::args::CheckArgs;
-use super::{batch, read_settings, write_atomically, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE};
-use crate::analyze::{Outcome, Settings};
+use super::args::{CheckArgs, FormatArg};
+use super::{
+    batch, measure_settings, output_format, read_settings, run_record_start, write_atomically,
+    CAUTION, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE,
+};
+use crate::analyze::Outcome;
 use crate::check::{
     compare, plan, read_catalog, summarize, Comparison, Mapping, Summary, TextOptions,
 };
 use crate::fem::TorsionSettings;
-use crate::report::format_number;
+use crate::report::{format_number, write_jsonl, xlsx_bytes, Cell, Table};
 
 /// Exit status: the catalog cannot be used (unreadable, no drawing column, no value column).
 pub const EXIT_UNUSABLE_CATALOG: i32 = EXIT_USAGE;
@@ -54,10 +57,8 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
     if let Some(f) = args.floor {
         mapping.tolerances.floor = f;
     }
-    if !(args.density.is_finite() && args.density > 0.0) {
-        bail!("--density must be a positive number of kg/m³");
-    }
-    let density = args.material.map_or(args.density, |m| m.density_kg_m3());
+    let density = args.mass.density_kg_m3().map_err(anyhow::Error::msg)?;
+    let format = output_format(args.format, args.output.as_deref(), None)?;
 
     let table = match read_catalog(
         &args.catalog,
@@ -96,16 +97,15 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
     let paths: Vec<PathBuf> = named.iter().map(|d| base.join(d.trim())).collect();
     let tiers = plan.tiers();
     let read = read_settings(&args.read, false)?;
-    let settings = Settings {
-        merge: args.merge,
-        plastic: tiers.plastic,
-        extrusion: tiers.extrusion,
-        torsion: tiers.torsion.then_some(TorsionSettings {
+    let settings = measure_settings(
+        read,
+        args.merge,
+        tiers,
+        TorsionSettings {
             accuracy: args.torsion_accuracy,
             ..TorsionSettings::default()
-        }),
-        ..read
-    };
+        },
+    );
     let existing: Vec<PathBuf> = paths.iter().filter(|p| p.is_file()).cloned().collect();
     let batch = batch::run_batch(&existing, &settings, args.jobs, |_| ())?;
     let mut by_file: HashMap<String, Vec<Outcome>> = HashMap::new();
@@ -137,14 +137,39 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
     let results = compare(&table, &plan, &mapping.tolerances, density, &measured);
     let summary = summarize(table.rows.len(), &results, missing);
 
-    let csv = results_csv(&results)?;
+    let bytes = match format {
+        FormatArg::Csv => results_csv(&results)?,
+        FormatArg::Jsonl => {
+            let mut out = Vec::new();
+            write_jsonl(&mut out, &results_table(&results))?;
+            out
+        }
+        FormatArg::Xlsx => {
+            let mut run = run_record_start();
+            run.push("catalog", args.catalog.display().to_string());
+            run.push("catalog read as", table.dialect.clone());
+            if let Some(map) = &args.map {
+                run.push("mapping", map.display().to_string());
+            }
+            run.push("density", args.mass.describe(density));
+            run.push("drawings", named.len().to_string());
+            for p in &paths {
+                run.push("input", p.display().to_string());
+            }
+            run.push("caution", CAUTION);
+            xlsx_bytes(
+                &[results_table(&results), summary_table(&summary, &mapping)],
+                &run,
+            )?
+        }
+    };
     match &args.output {
-        Some(path) => write_atomically(path, |w| w.write_all(&csv))
+        Some(path) => write_atomically(path, |w| w.write_all(&bytes))
             .with_context(|| format!("cannot write {}", path.display()))?,
         None => {
             let stdout = std::io::stdout();
             let mut lock = stdout.lock();
-            lock.write_all(&csv)
+            lock.write_all(&bytes)
                 .and_then(|_| lock.flush())
                 .context("cannot write to standard output")?;
         }
@@ -197,6 +222,82 @@ pub fn result_cells(c: &Comparison) -> [String; 12] {
         if c.pass { "pass" } else { "fail" }.to_string(),
         c.reason.clone(),
     ]
+}
+
+fn cell(v: Option<f64>) -> Cell {
+    v.filter(|x| x.is_finite())
+        .map_or(Cell::Empty, Cell::Number)
+}
+
+/// The results as a table (for JSON Lines and .xlsx): numbers as numbers, failures flagged.
+pub fn results_table(results: &[Comparison]) -> Table {
+    let text = |s: &str| {
+        if s.is_empty() {
+            Cell::Empty
+        } else {
+            Cell::Text(s.to_string())
+        }
+    };
+    Table {
+        name: "results".into(),
+        header: RESULT_HEADER.iter().map(|h| h.to_string()).collect(),
+        rows: results
+            .iter()
+            .map(|c| {
+                vec![
+                    Cell::Number(c.line as f64),
+                    text(&c.label),
+                    text(&c.drawing),
+                    text(&c.profile),
+                    text(&c.property),
+                    cell(c.stated),
+                    cell(c.measured),
+                    cell(c.difference()),
+                    cell(c.relative_difference()),
+                    cell(c.allowed),
+                    text(if c.pass { "pass" } else { "fail" }),
+                    text(&c.reason),
+                ]
+            })
+            .collect(),
+        flagged: results.iter().map(|c| !c.pass).collect(),
+    }
+}
+
+/// The totals and tolerances as a two-column table.
+fn summary_table(s: &Summary, mapping: &Mapping) -> Table {
+    let mut rows = vec![
+        ("profiles", Cell::Number(s.profiles as f64)),
+        ("values compared", Cell::Number(s.values as f64)),
+        ("passed", Cell::Number(s.passed as f64)),
+        ("failed", Cell::Number(s.failed as f64)),
+        ("missing drawings", Cell::Number(s.missing_drawings as f64)),
+        ("tolerance", Cell::Number(mapping.tolerances.default)),
+        ("floor", Cell::Number(mapping.tolerances.floor)),
+    ];
+    let mut per: Vec<(&String, &f64)> = mapping.tolerances.per_property.iter().collect();
+    per.sort_by(|a, b| a.0.cmp(b.0));
+    let per: Vec<(String, Cell)> = per
+        .into_iter()
+        .map(|(k, v)| (format!("tolerance {k}"), Cell::Number(*v)))
+        .collect();
+    let mut table = Table {
+        name: "summary".into(),
+        header: vec!["item".into(), "value".into()],
+        rows: Vec::new(),
+        flagged: Vec::new(),
+    };
+    for (k, v) in rows.drain(..) {
+        table.flagged.push(
+            (k == "failed" || k == "missing drawings") && matches!(v, Cell::Number(n) if n > 0.0),
+        );
+        table.rows.push(vec![Cell::Text(k.to_string()), v]);
+    }
+    for (k, v) in per {
+        table.flagged.push(false);
+        table.rows.push(vec![Cell::Text(k), v]);
+    }
+    table
 }
 
 /// The results as CSV: a header, then one record per stated value.

@@ -12,7 +12,6 @@ use std::path::{Path, PathBuf};
 use std::time::{Instant, SystemTime};
 
 use anyhow::{bail, Context};
-use clap::ValueEnum;
 
 use crate::analyze::Settings;
 use crate::fem::TorsionSettings;
@@ -94,13 +93,16 @@ fn read_settings(read: &ReadArgs, census: bool) -> anyhow::Result<Settings> {
 pub(crate) const CAUTION: &str = "Geometric properties of the outline as drawn; not a strength check; member design follows the applicable code and a qualified engineer.";
 
 /// The output format: `--format`, else from the extension of `-o` (`.xlsx`; `.jsonl` or
-/// `.ndjson`; anything else CSV), else CSV. An .xlsx workbook needs `-o`, and the CSV
-/// options do not apply to the others: usage errors.
-fn output_format(args: &MeasureArgs) -> anyhow::Result<FormatArg> {
+/// `.ndjson`; anything else CSV), else CSV. An .xlsx workbook needs `-o`, and options that
+/// only shape CSV text (`csv_flag`, the first one given) do not apply to the others: usage
+/// errors.
+pub(crate) fn output_format(
+    format: Option<FormatArg>,
+    output: Option<&Path>,
+    csv_flag: Option<&str>,
+) -> anyhow::Result<FormatArg> {
     let by_extension = || {
-        let ext = args
-            .output
-            .as_deref()
+        let ext = output
             .and_then(Path::extension)
             .map(|e| e.to_string_lossy().to_ascii_lowercase());
         match ext.as_deref() {
@@ -109,24 +111,36 @@ fn output_format(args: &MeasureArgs) -> anyhow::Result<FormatArg> {
             _ => FormatArg::Csv,
         }
     };
-    let format = args.format.unwrap_or_else(by_extension);
+    let format = format.unwrap_or_else(by_extension);
     let name = match format {
         FormatArg::Csv => return Ok(format),
         FormatArg::Jsonl => "jsonl",
         FormatArg::Xlsx => "xlsx",
     };
-    if format == FormatArg::Xlsx && args.output.is_none() {
+    if format == FormatArg::Xlsx && output.is_none() {
         bail!("--format xlsx writes a workbook, not text: give a file with -o (e.g. -o sections.xlsx)");
     }
-    if args.delimiter.is_some() || args.decimal_comma {
-        let flag = if args.delimiter.is_some() {
-            "--delimiter"
-        } else {
-            "--decimal-comma"
-        };
+    if let Some(flag) = csv_flag {
         bail!("{flag} applies to CSV output only, not to {name} (numbers there are numbers, not text)");
     }
     Ok(format)
+}
+
+/// The settings of a measurement: the reading settings with `merge` and the optional tiers
+/// (`torsion` the solver's settings when that tier is on).
+pub(crate) fn measure_settings(
+    read: Settings,
+    merge: bool,
+    tiers: Tiers,
+    torsion: TorsionSettings,
+) -> Settings {
+    Settings {
+        merge,
+        plastic: tiers.plastic,
+        extrusion: tiers.extrusion,
+        torsion: tiers.torsion.then_some(torsion),
+        ..read
+    }
 }
 
 /// `text` as one word for a POSIX shell: unchanged when it holds only characters no shell
@@ -165,16 +179,7 @@ pub(crate) fn run_record_start() -> RunRecord {
 fn measure_run_record(args: &MeasureArgs, format: &CsvFormat, files: &[PathBuf]) -> RunRecord {
     let mut run = run_record_start();
     run.push("units", format.unit.name);
-    let material = args
-        .material
-        .and_then(|m| m.to_possible_value())
-        .map(|v| format!(" ({})", v.get_name()));
-    let density = format!(
-        "{} kg/m³{}",
-        format.density_kg_m3,
-        material.unwrap_or_default()
-    );
-    run.push("density", density);
+    run.push("density", args.mass.describe(format.density_kg_m3));
     run.push("files", files.len().to_string());
     for f in files {
         run.push("input", f.display().to_string());
@@ -185,11 +190,14 @@ fn measure_run_record(args: &MeasureArgs, format: &CsvFormat, files: &[PathBuf])
 
 fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     let started = Instant::now();
-    let output_format = output_format(&args)?;
+    let csv_flag = if args.delimiter.is_some() {
+        Some("--delimiter")
+    } else {
+        args.decimal_comma.then_some("--decimal-comma")
+    };
+    let output_format = output_format(args.format, args.output.as_deref(), csv_flag)?;
     let delimiter = parse_delimiter(args.delimiter.as_deref(), args.decimal_comma)?;
-    if !(args.density.is_finite() && args.density > 0.0) {
-        bail!("--density must be a positive number of kg/m³");
-    }
+    let density = args.mass.density_kg_m3().map_err(anyhow::Error::msg)?;
     let read = read_settings(&args.read, false)?;
     let files = batch::collect_files(&args.paths)?;
     if files.is_empty() {
@@ -204,21 +212,20 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             torsion: args.torsion,
         }
     };
-    let settings = Settings {
-        merge: args.merge,
-        plastic: tiers.plastic,
-        extrusion: tiers.extrusion,
-        torsion: tiers.torsion.then_some(TorsionSettings {
+    let settings = measure_settings(
+        read,
+        args.merge,
+        tiers,
+        TorsionSettings {
             accuracy: args.torsion_accuracy,
             max_nodes: args.torsion_max_nodes,
-        }),
-        ..read
-    };
+        },
+    );
     let format = CsvFormat {
         unit: unit(args.units),
         delimiter,
         decimal_comma: args.decimal_comma,
-        density_kg_m3: args.material.map_or(args.density, |m| m.density_kg_m3()),
+        density_kg_m3: density,
         tiers,
     };
     // CSV records are formatted on the worker threads; the other formats are built from
