@@ -226,8 +226,10 @@ fn headers_are_mapped_units_converted_and_tolerances_set() {
     let dir = tempfile::tempdir().expect("temp");
     // The channel in inches and cm, under the supplier's own headers. Measured (demo):
     // area 7.009915 cm², ixx 9.351461 cm⁴ = 9.351461 / 2.54⁴ in⁴ = 0.224669 in⁴.
+    // A units row under the header, as many catalogs print, is passed over.
     let catalog = format!(
         "Part;Drawing file;Area [cm2];Ix [in4];Weight [kg/m]\n\
+         ;;cm²;in⁴;kg/m\n\
          HV-204;{};7,010;0,2247;1,893\n",
         demo("04_hv-204_channel-80x40x4.dxf")
     );
@@ -258,6 +260,13 @@ mass = "0.01%"
     let by: HashMap<&str, &ResultRow> = run.results.iter().map(|r| (r.s("property"), r)).collect();
     assert_eq!(by["area_cm2"].s("status"), "pass");
     assert_eq!(by["area_cm2"].s("label"), "HV-204");
+    assert_eq!(by["area_cm2"].s("line"), "3");
+    assert_eq!(run.results.len(), 3);
+    assert!(
+        run.stderr.contains("1 catalog rows name no drawing"),
+        "{}",
+        run.stderr
+    );
     // 9.351461 cm⁴ in in⁴ (1 in = 2.54 cm).
     let ixx_in4 = 9.351461 / 2.54f64.powi(4);
     assert!((by["ixx_in4"].f("measured") - ixx_in4).abs() < 1e-6 * ixx_in4);

@@ -270,6 +270,18 @@ pub fn plan(table: &CatalogTable, mapping: &Mapping) -> Result<Plan, String> {
     })
 }
 
+/// Whether a catalog row describes a profile: it names a drawing or states a number. Rows
+/// that do neither (a units row under the header, a section heading, a note) are not
+/// profiles and are passed over.
+pub fn is_profile_row(row: &CatalogRow, plan: &Plan) -> bool {
+    let cell = |k: usize| row.cells.get(k).cloned().unwrap_or(CatalogCell::Empty);
+    !cell(plan.drawing).text().trim().is_empty()
+        || plan
+            .values
+            .iter()
+            .any(|v| matches!(cell(v.position), CatalogCell::Number(_)))
+}
+
 /// The result of comparing one stated value.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Comparison {
@@ -453,7 +465,7 @@ pub fn compare(
     measured: &dyn Fn(&str) -> Result<Vec<Outcome>, String>,
 ) -> Vec<Comparison> {
     let mut out = Vec::new();
-    for row in &table.rows {
+    for row in table.rows.iter().filter(|r| is_profile_row(r, plan)) {
         let cell = |k: usize| row.cells.get(k).cloned().unwrap_or(CatalogCell::Empty);
         let drawing = cell(plan.drawing).text();
         let profile_cell = plan.profile.map_or(CatalogCell::Empty, cell);

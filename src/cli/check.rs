@@ -14,7 +14,8 @@ use super::{
 };
 use crate::analyze::Outcome;
 use crate::check::{
-    compare, plan, read_catalog, summarize, Comparison, Mapping, Summary, TextOptions,
+    compare, is_profile_row, plan, read_catalog, summarize, Comparison, Mapping, Summary,
+    TextOptions,
 };
 use crate::fem::TorsionSettings;
 use crate::report::{format_number, write_jsonl, xlsx_bytes, Cell, Table};
@@ -122,8 +123,18 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
             .cloned()
             .ok_or_else(|| format!("drawing not read: {}", path.display()))
     };
-    let missing = table
+    let profile_rows: Vec<_> = table
         .rows
+        .iter()
+        .filter(|r| is_profile_row(r, &plan))
+        .collect();
+    let passed_over = table.rows.len() - profile_rows.len();
+    if passed_over > 0 {
+        eprintln!(
+            "sectio check: {passed_over} catalog rows name no drawing and state no number (units rows, headings?): passed over"
+        );
+    }
+    let missing = profile_rows
         .iter()
         .filter(|r| {
             let d = r
@@ -135,7 +146,7 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
         })
         .count();
     let results = compare(&table, &plan, &mapping.tolerances, density, &measured);
-    let summary = summarize(table.rows.len(), &results, missing);
+    let summary = summarize(profile_rows.len(), &results, missing);
 
     let bytes = match format {
         FormatArg::Csv => results_csv(&results)?,
