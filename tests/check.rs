@@ -8,6 +8,9 @@ use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
+mod util;
+use util::zip_part;
+
 const BIN: &str = env!("CARGO_BIN_EXE_sectio");
 
 fn demo(name: &str) -> String {
@@ -372,19 +375,6 @@ fn unusable_catalogs_exit_2() {
     assert_eq!(run.code, 2);
     let run = check(&[no_values.to_str().unwrap(), "--tolerance-for", "colour=1%"]);
     assert_eq!(run.code, 2);
-}
-
-/// The zip entry `name` of an .xlsx file, as text.
-fn zip_part(bytes: &[u8], name: &str) -> String {
-    use std::io::Read;
-    let mut archive = zip::ZipArchive::new(std::io::Cursor::new(bytes)).expect("a zip file");
-    let mut text = String::new();
-    archive
-        .by_name(name)
-        .unwrap_or_else(|_| panic!("no part {name}"))
-        .read_to_string(&mut text)
-        .expect("UTF-8 XML");
-    text
 }
 
 #[test]

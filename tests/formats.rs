@@ -2,11 +2,13 @@
 //! same header and values in each, numbers as numbers, error rows marked, the format chosen
 //! by `--format` or by the extension of `-o`, and the usage errors.
 
-use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
 use calamine::{Data, Reader, Xlsx};
+
+mod util;
+use util::zip_part;
 
 const BIN: &str = env!("CARGO_BIN_EXE_sectio");
 
@@ -97,18 +99,6 @@ fn path_str(p: &Path) -> &str {
 
 // ---------------------------------------------------------------------------------------
 // .xlsx
-
-/// The file's part `name` (a zip entry) as text.
-fn zip_part(bytes: &[u8], name: &str) -> String {
-    let mut archive = zip::ZipArchive::new(std::io::Cursor::new(bytes)).expect("a zip file");
-    let mut text = String::new();
-    archive
-        .by_name(name)
-        .unwrap_or_else(|_| panic!("no part {name}"))
-        .read_to_string(&mut text)
-        .expect("UTF-8 XML");
-    text
-}
 
 fn workbook(bytes: &[u8]) -> Xlsx<std::io::Cursor<Vec<u8>>> {
     Xlsx::new(std::io::Cursor::new(bytes.to_vec())).expect("calamine reads the workbook")

@@ -207,3 +207,16 @@ impl Similarity {
         }
     }
 }
+
+/// The zip entry `name` of an .xlsx file (its XML parts), as text.
+pub fn zip_part(bytes: &[u8], name: &str) -> String {
+    use std::io::Read;
+    let mut archive = zip::ZipArchive::new(std::io::Cursor::new(bytes)).expect("a zip file");
+    let mut text = String::new();
+    archive
+        .by_name(name)
+        .unwrap_or_else(|_| panic!("no part {name}"))
+        .read_to_string(&mut text)
+        .expect("UTF-8 XML");
+    text
+}
