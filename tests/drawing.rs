@@ -459,3 +459,42 @@ fn draw_command_exit_statuses() {
         .collect();
     assert_eq!(labels, want);
 }
+
+/// `analyze_drawing_with_geometry` gives the rows `analyze_drawing` gives, numbered alike,
+/// with one profile per measured row (all of them with `--merge`) and none for problem rows.
+#[test]
+fn geometry_comes_with_the_same_rows() {
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures/demo");
+    let mut files: Vec<_> = std::fs::read_dir(&demo)
+        .expect("demo folder")
+        .map(|e| e.expect("entry").path())
+        .filter(|p| p.extension().is_some_and(|e| e == "dxf"))
+        .collect();
+    files.sort();
+    assert_eq!(files.len(), 8);
+    for file in &files {
+        let bytes = std::fs::read(file).expect("fixture");
+        // Every layer too: the title frames make rows with holes on other layers.
+        for mut settings in [profile_layer(), Settings::default()] {
+            for merge in [false, true] {
+                settings.merge = merge;
+                let rows = sectio::analyze_drawing(&bytes, &settings);
+                let with = sectio::analyze_drawing_with_geometry(&bytes, &settings);
+                assert_eq!(rows, with.outcomes, "{}", file.display());
+                assert_eq!(with.profiles.len(), rows.len());
+                let n_profiles: usize = with.profiles.iter().map(Vec::len).sum();
+                for (row, profiles) in rows.iter().zip(&with.profiles) {
+                    if let Ok(props) = &row.result {
+                        if !merge {
+                            assert_eq!(profiles.len(), 1, "{}", file.display());
+                        } else {
+                            assert_eq!(profiles.len(), n_profiles);
+                        }
+                        let holes: usize = profiles.iter().map(|p| p.holes.len()).sum();
+                        assert_eq!(holes, props.n_holes, "{}", file.display());
+                    }
+                }
+            }
+        }
+    }
+}

@@ -244,9 +244,13 @@ fn item_box(it: &SheetItem, curves: &CurveTable) -> BBox {
 }
 
 /// The largest standard scale s (paper per drawing millimetre: 1, 2 or 5 × 10ⁿ, n from −6
-/// to 6) with s·width ≤ max_width and s·height ≤ max_height; the smallest one when none fits.
+/// to 6) with s·width ≤ max_width and s·height ≤ max_height; the smallest one when none fits,
+/// and 1:1 when the sizes give no bound (a drawing of no extent, sizes not finite).
 pub fn fitting_scale(width: f64, height: f64, max_width: f64, max_height: f64) -> f64 {
     let fit = (max_width / width).min(max_height / height);
+    if !(fit.is_finite() && fit > 0.0) {
+        return 1.0;
+    }
     let mut best = 1e-6;
     for n in -6..=6 {
         for m in [1.0, 2.0, 5.0] {
@@ -889,6 +893,8 @@ mod tests {
         assert_eq!(fitting_scale(100.0, 50.0, 150.0, 160.0), 1.0);
         assert_eq!(fitting_scale(40.0, 30.0, 150.0, 160.0), 2.0);
         assert_eq!(fitting_scale(1000.0, 50.0, 150.0, 160.0), 0.1);
+        assert_eq!(fitting_scale(0.0, 0.0, 150.0, 160.0), 1.0);
+        assert_eq!(fitting_scale(f64::NAN, 1.0, 150.0, 160.0), 1.0);
         assert_eq!(scale_label(0.2), "1:5");
         assert_eq!(scale_label(2.0), "2:1");
         assert_eq!(round_length(37.0), (20.0, "20".into()));
