@@ -248,7 +248,9 @@ fn item_box(it: &SheetItem, curves: &CurveTable) -> BBox {
 /// and 1:1 when the sizes give no bound (a drawing of no extent, sizes not finite).
 pub fn fitting_scale(width: f64, height: f64, max_width: f64, max_height: f64) -> f64 {
     let fit = (max_width / width).min(max_height / height);
-    if !(fit.is_finite() && fit > 0.0) {
+    // f64::min passes over a NaN, so the sizes are checked themselves.
+    let sizes_ok = [width, height].iter().all(|v| v.is_finite() && *v >= 0.0);
+    if !(sizes_ok && fit.is_finite() && fit > 0.0) {
         return 1.0;
     }
     let mut best = 1e-6;
