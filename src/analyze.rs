@@ -4,7 +4,7 @@ use std::collections::BTreeMap;
 
 use crate::fem::{torsion_props, TorsionSettings};
 use crate::geom::{
-    chain, drop_crossing_loops, nest, BBox, CurvePiece, LoopProblem, Profile, Segment,
+    chain, drop_crossing_loops, nest, BBox, CurvePiece, CurveTable, LoopProblem, Profile, Segment,
 };
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
@@ -111,15 +111,29 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
 /// Read and measure one DXF or SVG file held in memory (told apart by content, see
 /// [`import::svg::looks_like_svg`]).
 pub fn analyze_drawing(bytes: &[u8], settings: &Settings) -> Vec<Outcome> {
+    match read_drawing(bytes, settings) {
+        Ok(d) => measure_drawing(d, settings),
+        Err(e) => file_row("", e),
+    }
+}
+
+/// [`analyze_drawing`], keeping each row's profiles and the curve table
+/// ([`measure_drawing_with_geometry`]).
+pub fn analyze_drawing_with_geometry(bytes: &[u8], settings: &Settings) -> MeasuredDrawing {
+    match read_drawing(bytes, settings) {
+        Ok(d) => measure_drawing_with_geometry(d, settings),
+        Err(e) => MeasuredDrawing::file_row("", e, CurveTable::default()),
+    }
+}
+
+/// The reader's drawing, or its error as text.
+fn read_drawing(bytes: &[u8], settings: &Settings) -> Result<Drawing, String> {
     let read = if import::svg::looks_like_svg(bytes) {
         import::svg::read(bytes, &settings.read)
     } else {
         import::dxf::read(bytes, &settings.read)
     };
-    match read {
-        Ok(d) => measure_drawing(d, settings),
-        Err(e) => file_row("", e.to_string()),
-    }
+    read.map_err(|e| e.to_string())
 }
 
 /// A row about the whole file.
@@ -165,7 +179,38 @@ pub(crate) fn to_millimetres(drawing: &mut Drawing, unit: LengthUnit) {
 }
 
 /// Measure a drawing already read (by any reader, or built by hand in tests).
-pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome> {
+pub fn measure_drawing(drawing: Drawing, settings: &Settings) -> Vec<Outcome> {
+    measure_drawing_with_geometry(drawing, settings).outcomes
+}
+
+/// A measured drawing with the geometry behind each row, for drawing it
+/// ([`crate::report::drawing`]).
+#[derive(Debug, Clone, Default)]
+pub struct MeasuredDrawing {
+    /// The rows, exactly as [`measure_drawing`] returns them.
+    pub outcomes: Vec<Outcome>,
+    /// For each row of `outcomes` (same index), the profiles it is about, in millimetres:
+    /// one, or every profile of the file with `merge`; also for a profile that a problem kept
+    /// from being measured; empty for rows about a problem or about the whole file.
+    pub profiles: Vec<Vec<Profile>>,
+    /// The curve spans the profiles' curve pieces index, in millimetres.
+    pub curves: CurveTable,
+}
+
+impl MeasuredDrawing {
+    /// Rows about the whole file carry no geometry.
+    fn file_row(units: &str, msg: String, curves: CurveTable) -> MeasuredDrawing {
+        MeasuredDrawing {
+            outcomes: file_row(units, msg),
+            profiles: vec![Vec::new()],
+            curves,
+        }
+    }
+}
+
+/// [`measure_drawing`], keeping each row's profiles and the curve table. The profiles are
+/// moved out of the pipeline, not copied, so this costs `measure_drawing` nothing.
+pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) -> MeasuredDrawing {
     let (unit, units_label) = match drawing.units.declared {
         Some(u) => (u, u.name.to_string()),
         None => (
@@ -194,7 +239,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             msg.push_str(&format!("; skipped {skipped}"));
         }
         msg.push_str(&hint);
-        return file_row(&units_label, msg);
+        return MeasuredDrawing::file_row(&units_label, msg, drawing.curves);
     }
     let join_gap = settings.join_gap.unwrap_or_else(|| {
         let (extent, short) = drawing_scale(&drawing.pieces);
@@ -243,6 +288,8 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
     struct Item {
         key: (f64, f64),
         outcome: Outcome,
+        /// The indices into `profiles` the row is about.
+        members: std::ops::Range<usize>,
     }
     let mut items: Vec<Item> = Vec::new();
     let blocked = |bbox: &BBox, used: &mut Vec<bool>| -> Vec<String> {
@@ -326,9 +373,10 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
         items.push(Item {
             key: (bbox.min.x, bbox.min.y),
             outcome,
+            members: 0..profiles.len(),
         });
     } else {
-        for p in &profiles {
+        for (k, p) in profiles.iter().enumerate() {
             let bbox = p.bbox();
             let msgs = blocked(&bbox, &mut used_problem);
             let mut failed = None;
@@ -349,6 +397,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             items.push(Item {
                 key: (bbox.min.x, bbox.min.y),
                 outcome,
+                members: k..k + 1,
             });
         }
     }
@@ -358,6 +407,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             items.push(Item {
                 key: (bbox.min.x, bbox.min.y),
                 outcome: make(pr.layer(), Err(pr.describe())),
+                members: 0..0,
             });
         }
     }
@@ -367,7 +417,7 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             msg.push_str(&format!("; {note}"));
         }
         msg.push_str(&hint);
-        return file_row(&units_label, msg);
+        return MeasuredDrawing::file_row(&units_label, msg, drawing.curves);
     }
     // Reading order: left to right by the left edge of each box, then bottom to top.
     items.sort_by(|a, b| {
@@ -376,14 +426,25 @@ pub fn measure_drawing(mut drawing: Drawing, settings: &Settings) -> Vec<Outcome
             .total_cmp(&b.key.0)
             .then(a.key.1.total_cmp(&b.key.1))
     });
-    items
-        .into_iter()
-        .enumerate()
-        .map(|(i, mut it)| {
-            it.outcome.profile = i + 1;
-            it.outcome
-        })
-        .collect()
+    // Each profile belongs to at most one row (the ranges are disjoint), so each is moved
+    // out once.
+    let mut slots: Vec<Option<Profile>> = profiles.into_iter().map(Some).collect();
+    let mut outcomes = Vec::with_capacity(items.len());
+    let mut row_profiles = Vec::with_capacity(items.len());
+    for (i, mut it) in items.into_iter().enumerate() {
+        it.outcome.profile = i + 1;
+        outcomes.push(it.outcome);
+        row_profiles.push(
+            it.members
+                .filter_map(|k| slots.get_mut(k).and_then(Option::take))
+                .collect(),
+        );
+    }
+    MeasuredDrawing {
+        outcomes,
+        profiles: row_profiles,
+        curves: drawing.curves,
+    }
 }
 
 /// A warning when a profile's holes lie on other layers than its outer loop: the outer loop

@@ -5,6 +5,7 @@
 pub mod args;
 pub mod batch;
 pub mod check;
+mod draw;
 mod explain;
 
 use std::io::Write;
@@ -44,6 +45,7 @@ pub fn run(cli: Cli) -> anyhow::Result<i32> {
         Command::Measure(args) => measure(args),
         Command::Explain(args) => explain::explain(args),
         Command::Check(args) => check::check(args),
+        Command::Draw(args) => draw::draw(args),
     }
 }
 

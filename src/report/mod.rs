@@ -3,6 +3,7 @@
 //! Renaming a column is a format change: record it in CHANGELOG.md.
 
 pub mod csv_out;
+pub mod drawing;
 pub mod table;
 
 pub use csv_out::{csv_header, csv_records, format_number, write_csv, CsvFormat};
