@@ -139,7 +139,30 @@ impl Mark {
         }
     }
 
-    fn legend_text(self) -> &'static str {
+    /// Every mark, in legend order.
+    pub const ALL: [Mark; 6] = [
+        Mark::Centroid,
+        Mark::PrincipalAxes,
+        Mark::ShearCentre,
+        Mark::PlasticAxes,
+        Mark::Circumscribed,
+        Mark::ThinnestWall,
+    ];
+
+    /// The colour the mark is drawn in.
+    pub fn colour(self) -> &'static str {
+        match self {
+            Mark::Centroid => CENTROID,
+            Mark::PrincipalAxes => PRINCIPAL,
+            Mark::ShearCentre => SHEAR_CENTRE,
+            Mark::PlasticAxes => PLASTIC,
+            Mark::Circumscribed => CIRCUMSCRIBED,
+            Mark::ThinnestWall => THINNEST,
+        }
+    }
+
+    /// What the legend says about the mark.
+    pub fn legend_text(self) -> &'static str {
         match self {
             Mark::Centroid => "Centroid (elastic centre of area)",
             Mark::PrincipalAxes => "Principal axes through the centroid: 1 of I1 (major), 2 of I2",
