@@ -38,7 +38,7 @@ fn measure_demo(dir: &Path, extra: &[&str]) -> Output {
         "PROFILE".as_ref(),
         "--all".as_ref(),
     ];
-    args.extend(extra.iter().map(|a| std::ffi::OsStr::new(a)));
+    args.extend(extra.iter().map(std::ffi::OsStr::new));
     sectio(&args, dir)
 }
 
