@@ -356,12 +356,12 @@ ul.legend li{margin:.15em 0}
 .controls input{width:20em}
 table#summary{border-collapse:collapse;font-size:.85em}
 #summary th,#summary td{border-bottom:1px solid #ddd;padding:2px 6px;text-align:left}
-#summary th{white-space:nowrap;position:sticky;top:2.6em;background:#fff}
+#summary th{vertical-align:bottom;position:sticky;top:2.6em;background:#fff}
 #summary th button{font:inherit;font-weight:bold;background:none;border:none;cursor:pointer;padding:0}
 #summary th[aria-sort=ascending] button::after{content:" \25B2"}
 #summary th[aria-sort=descending] button::after{content:" \25BC"}
 #summary td.num,.values td.num{text-align:right;font-variant-numeric:tabular-nums}
-#summary td.msg{max-width:28em;overflow:hidden;text-overflow:ellipsis;white-space:nowrap}
+#summary td.msg{max-width:14em;overflow:hidden;text-overflow:ellipsis;white-space:nowrap}
 #summary svg.thumb{display:block}
 .ok{color:#006b3c}
 .error{color:#b00020;font-weight:bold}
@@ -518,9 +518,11 @@ pub fn write_page(
     top.push_str("<table id=\"summary\"><thead><tr><th>drawing</th><th data-key=\"file\"><button type=\"button\">file</button></th><th data-key=\"profile\" data-type=\"num\"><button type=\"button\">profile</button></th><th data-key=\"status\"><button type=\"button\">status</button></th><th data-key=\"message\"><button type=\"button\">message</button></th>");
     for &k in &keys {
         let name = escape_html(&head[k]);
+        // Long names may break after an underscore.
+        let shown = name.replace('_', "_<wbr>");
         let _ = write!(
             top,
-            "<th data-key=\"{name}\" data-type=\"num\"><button type=\"button\">{name}</button></th>"
+            "<th data-key=\"{name}\" data-type=\"num\"><button type=\"button\">{shown}</button></th>"
         );
     }
     top.push_str("</tr></thead><tbody>\n");
