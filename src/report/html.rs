@@ -199,7 +199,11 @@ pub fn file_fragment(
             .push_str("<div class=\"pair\"><div class=\"fig\">");
         match (&o.result, geometry) {
             (Ok(props), Some(g)) if !profiles.is_empty() => {
-                let svg = profile_svg(&profiles, &g.curves, props, &DrawStyle::default());
+                let style = DrawStyle {
+                    digits: 4,
+                    ..DrawStyle::default()
+                };
+                let svg = profile_svg(&profiles, &g.curves, props, &style);
                 // Inline SVG in HTML takes no XML declaration.
                 let svg = match svg.find("<svg") {
                     Some(at) => &svg[at..],
