@@ -195,6 +195,27 @@ pub struct MeasuredDrawing {
     pub profiles: Vec<Vec<Profile>>,
     /// The curve spans the profiles' curve pieces index, in millimetres.
     pub curves: CurveTable,
+    /// For each row of `outcomes` (same index), where the geometry problems that made it an
+    /// error row are (millimetres): those blocking its profile, or its own; empty for
+    /// measured rows and rows about the whole file.
+    pub problems: Vec<Vec<ProblemPlace>>,
+}
+
+/// Where a geometry problem is: the box of the chain or loop concerned, and the box of the
+/// exact place (the gap's ends, the branch or crossing point; see [`LoopProblem::spot`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ProblemPlace {
+    pub bbox: BBox,
+    pub spot: BBox,
+}
+
+impl ProblemPlace {
+    fn of(problem: &LoopProblem) -> ProblemPlace {
+        ProblemPlace {
+            bbox: problem.bbox(),
+            spot: problem.spot(),
+        }
+    }
 }
 
 impl MeasuredDrawing {
@@ -204,6 +225,7 @@ impl MeasuredDrawing {
             outcomes: file_row(units, msg),
             profiles: vec![Vec::new()],
             curves,
+            problems: vec![Vec::new()],
         }
     }
 }
@@ -290,17 +312,21 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         outcome: Outcome,
         /// The indices into `profiles` the row is about.
         members: std::ops::Range<usize>,
+        /// The boxes of the problems that make it an error row.
+        problem_boxes: Vec<ProblemPlace>,
     }
     let mut items: Vec<Item> = Vec::new();
-    let blocked = |bbox: &BBox, used: &mut Vec<bool>| -> Vec<String> {
+    let blocked = |bbox: &BBox, used: &mut Vec<bool>| -> (Vec<String>, Vec<ProblemPlace>) {
         let mut msgs = Vec::new();
+        let mut boxes = Vec::new();
         for (k, pr) in problems.iter().enumerate() {
             if pr.blocks_profiles() && pr.bbox().overlaps(bbox, join_gap) {
                 used[k] = true;
                 msgs.push(pr.describe());
+                boxes.push(ProblemPlace::of(pr));
             }
         }
-        msgs
+        (msgs, boxes)
     };
     // Elastic properties, and the optional tiers when asked for; a failure of one of those
     // (never expected) leaves its columns empty and says why in the message.
@@ -356,7 +382,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
     if settings.merge && !profiles.is_empty() {
         let all: Vec<&Profile> = profiles.iter().collect();
         let bbox = all.iter().fold(BBox::EMPTY, |b, p| b.union(&p.bbox()));
-        let msgs = blocked(&bbox, &mut used_problem);
+        let (msgs, problem_boxes) = blocked(&bbox, &mut used_problem);
         let layers = joined_layers(&all);
         let mut failed = None;
         let result = if msgs.is_empty() {
@@ -374,11 +400,12 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
             key: (bbox.min.x, bbox.min.y),
             outcome,
             members: 0..profiles.len(),
+            problem_boxes,
         });
     } else {
         for (k, p) in profiles.iter().enumerate() {
             let bbox = p.bbox();
-            let msgs = blocked(&bbox, &mut used_problem);
+            let (msgs, problem_boxes) = blocked(&bbox, &mut used_problem);
             let mut failed = None;
             let result = if msgs.is_empty() {
                 let (props, f) = measure(&[p]);
@@ -398,6 +425,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
                 key: (bbox.min.x, bbox.min.y),
                 outcome,
                 members: k..k + 1,
+                problem_boxes,
             });
         }
     }
@@ -408,6 +436,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
                 key: (bbox.min.x, bbox.min.y),
                 outcome: make(pr.layer(), Err(pr.describe())),
                 members: 0..0,
+                problem_boxes: vec![ProblemPlace::of(pr)],
             });
         }
     }
@@ -431,9 +460,11 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
     let mut slots: Vec<Option<Profile>> = profiles.into_iter().map(Some).collect();
     let mut outcomes = Vec::with_capacity(items.len());
     let mut row_profiles = Vec::with_capacity(items.len());
+    let mut row_problems = Vec::with_capacity(items.len());
     for (i, mut it) in items.into_iter().enumerate() {
         it.outcome.profile = i + 1;
         outcomes.push(it.outcome);
+        row_problems.push(it.problem_boxes);
         row_profiles.push(
             it.members
                 .filter_map(|k| slots.get_mut(k).and_then(Option::take))
@@ -444,6 +475,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         outcomes,
         profiles: row_profiles,
         curves: drawing.curves,
+        problems: row_problems,
     }
 }
 

@@ -372,6 +372,10 @@ pub struct MeasureArgs {
     #[arg(long, value_enum, value_name = "FORMAT")]
     pub format: Option<FormatArg>,
 
+    /// Also write an HTML report to FILE (one self-contained page: a sortable, filterable table of every profile with thumbnails, and for each profile its drawing to scale with the centroid, principal axes and the marks of the tiers computed, beside its values; error rows show where the problem is). Works offline.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
+
     /// Length unit of the output columns; the header names carry it (area_mm2, ixx_in4, ...).
     #[arg(long, value_enum, default_value = "mm")]
     pub units: UnitArg,

@@ -7,7 +7,9 @@ use anyhow::Context;
 use indicatif::{ProgressBar, ProgressStyle};
 use rayon::prelude::*;
 
-use crate::analyze::{analyze_drawing, Outcome, Settings};
+use crate::analyze::{
+    analyze_drawing, analyze_drawing_with_geometry, MeasuredDrawing, Outcome, Settings,
+};
 use crate::report::Row;
 
 /// Files named by `paths`: files as given, folders searched recursively for `*.dxf` and
@@ -58,6 +60,20 @@ pub fn run_batch<T: Send>(
     jobs: Option<usize>,
     render: impl Fn(&[Row]) -> T + Sync,
 ) -> anyhow::Result<BatchOutput<T>> {
+    run_batch_with(files, jobs, |path| {
+        let rows = measure_file(path, settings);
+        let rendered = render(&rows);
+        (rows, rendered)
+    })
+}
+
+/// Run `per_file` on every file in parallel (it returns the file's rows and what it
+/// rendered of them), with the progress bar and panic capture of the batch.
+pub fn run_batch_with<T: Send>(
+    files: &[PathBuf],
+    jobs: Option<usize>,
+    per_file: impl Fn(&Path) -> (Vec<Row>, T) + Sync,
+) -> anyhow::Result<BatchOutput<T>> {
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(jobs.unwrap_or(0))
         .build()
@@ -74,10 +90,9 @@ pub fn run_batch<T: Send>(
         files
             .par_iter()
             .map(|path| {
-                let rows = measure_file(path, settings);
-                let rendered = render(&rows);
+                let out = per_file(path);
                 bar.inc(1);
-                (rows, rendered)
+                out
             })
             .collect()
     });
@@ -96,24 +111,44 @@ pub fn run_batch<T: Send>(
 
 /// All rows of one file; never panics.
 pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
-    let file = path.display().to_string();
     let analyzed = with_file_bytes(path, |bytes| {
         catch_unwind(AssertUnwindSafe(|| analyze_drawing(bytes, settings)))
     });
     let outcomes = match analyzed {
-        Err(e) => vec![file_error(format!("cannot read file: {e}"))],
         Ok(Ok(o)) => o,
-        Ok(Err(payload)) => {
-            let what = payload
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| payload.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "unknown panic".to_string());
-            vec![file_error(format!(
-                "internal error ({what}); this is a bug in sectio: please report it with the drawing"
-            ))]
-        }
+        Ok(Err(payload)) => vec![panic_row(payload)],
+        Err(e) => vec![file_error(format!("cannot read file: {e}"))],
     };
+    rows_of(path, outcomes)
+}
+
+/// [`measure_file`], keeping the rows' geometry (profiles, curve table, problem boxes; its
+/// `outcomes` are moved into the rows); `None` when the file could not be read or measuring
+/// it panicked.
+pub fn measure_file_with_geometry(
+    path: &Path,
+    settings: &Settings,
+) -> (Vec<Row>, Option<MeasuredDrawing>) {
+    let analyzed = with_file_bytes(path, |bytes| {
+        catch_unwind(AssertUnwindSafe(|| {
+            analyze_drawing_with_geometry(bytes, settings)
+        }))
+    });
+    match analyzed {
+        Ok(Ok(mut m)) => {
+            let outcomes = std::mem::take(&mut m.outcomes);
+            (rows_of(path, outcomes), Some(m))
+        }
+        Ok(Err(payload)) => (rows_of(path, vec![panic_row(payload)]), None),
+        Err(e) => (
+            rows_of(path, vec![file_error(format!("cannot read file: {e}"))]),
+            None,
+        ),
+    }
+}
+
+fn rows_of(path: &Path, outcomes: Vec<Outcome>) -> Vec<Row> {
+    let file = path.display().to_string();
     outcomes
         .into_iter()
         .map(|outcome| Row {
@@ -121,6 +156,18 @@ pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
             outcome,
         })
         .collect()
+}
+
+/// The row of a file whose measuring panicked.
+fn panic_row(payload: Box<dyn std::any::Any + Send>) -> Outcome {
+    let what = payload
+        .downcast_ref::<&str>()
+        .map(|s| s.to_string())
+        .or_else(|| payload.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "unknown panic".to_string());
+    file_error(format!(
+        "internal error ({what}); this is a bug in sectio: please report it with the drawing"
+    ))
 }
 
 thread_local! {

@@ -17,6 +17,7 @@ use anyhow::{bail, Context};
 use crate::analyze::Settings;
 use crate::fem::TorsionSettings;
 use crate::import::{LengthUnit, ReadOptions};
+use crate::report::html;
 use crate::report::table::utc_date_time;
 use crate::report::{
     csv_header, csv_records, measure_table, write_jsonl, xlsx_bytes, CsvFormat, RunRecord, Tiers,
@@ -231,11 +232,29 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         tiers,
     };
     // CSV records are formatted on the worker threads; the other formats are built from
-    // all rows at the end.
+    // all rows at the end. The report's parts too are built on the worker threads, from
+    // each file's geometry, which is then dropped; without --report the geometry is never
+    // kept.
     let csv = output_format == FormatArg::Csv;
-    let batch = batch::run_batch(&files, &settings, args.jobs, |rows| {
-        csv.then(|| csv_records(rows, &format))
-    })?;
+    let batch = match &args.report {
+        None => batch::run_batch(&files, &settings, args.jobs, |rows| {
+            (csv.then(|| csv_records(rows, &format)), None)
+        })?,
+        Some(_) => {
+            let numbers: std::collections::HashMap<&Path, usize> = files
+                .iter()
+                .enumerate()
+                .map(|(k, f)| (f.as_path(), k + 1))
+                .collect();
+            batch::run_batch_with(&files, args.jobs, |path| {
+                let (rows, geometry) = batch::measure_file_with_geometry(path, &settings);
+                let file_no = numbers.get(path).copied().unwrap_or(0);
+                let fragment = html::file_fragment(file_no, &rows, geometry.as_ref(), &format);
+                let records = csv.then(|| csv_records(&rows, &format));
+                (rows, (records, Some(fragment)))
+            })?
+        }
+    };
     let rows = batch.rows;
     let xlsx = match output_format {
         FormatArg::Xlsx => {
@@ -250,7 +269,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             (None, FormatArg::Jsonl) => write_jsonl(w, &measure_table(&rows, &format))?,
             (None, _) => {
                 w.write_all(&csv_header(&format)?)?;
-                for chunk in batch.rendered.iter().flatten() {
+                for chunk in batch.rendered.iter().filter_map(|(c, _)| c.as_ref()) {
                     w.write_all(
                         chunk
                             .as_ref()
@@ -269,6 +288,16 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             let mut lock = stdout.lock();
             write(&mut lock).context("cannot write to standard output")?;
         }
+    }
+    if let Some(path) = &args.report {
+        let run = measure_run_record(&args, &format, &files);
+        let fragments: Vec<&html::Fragment> = batch
+            .rendered
+            .iter()
+            .filter_map(|(_, f)| f.as_ref())
+            .collect();
+        write_atomically(path, |w| html::write_page(w, &run, &format, &fragments))
+            .with_context(|| format!("cannot write {}", path.display()))?;
     }
     let errors = rows.iter().filter(|r| r.outcome.result.is_err()).count();
     let failed_files = {

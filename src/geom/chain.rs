@@ -127,6 +127,25 @@ impl LoopProblem {
         }
     }
 
+    /// The exact place of the problem: the box of the gap's two ends or of an open path's
+    /// ends, the branch or crossing point; the whole box for a loop of no area.
+    pub fn spot(&self) -> BBox {
+        let of = |a: Point, b: Point| {
+            let mut bb = BBox::EMPTY;
+            bb.add_point(a);
+            bb.add_point(b);
+            bb
+        };
+        match self {
+            LoopProblem::OpenChain { gap_at: (a, b), .. }
+            | LoopProblem::OpenPath { ends: (a, b), .. } => of(*a, *b),
+            LoopProblem::Branch { at, .. }
+            | LoopProblem::SelfIntersection { at, .. }
+            | LoopProblem::LoopsCross { at, .. } => of(*at, *at),
+            LoopProblem::ZeroArea { bbox, .. } => *bbox,
+        }
+    }
+
     /// Whether the problem stops the profiles whose boxes it overlaps from being measured
     /// (it may hide a loop of theirs); an open path far from closing cannot.
     pub fn blocks_profiles(&self) -> bool {

@@ -93,6 +93,10 @@ pub struct DrawStyle {
     pub max_width_mm: f64,
     /// Largest height of the drawing area, paper millimetres.
     pub max_height_mm: f64,
+    /// Coordinates are written to about 10^−`digits` of the drawing's extent: 6 (the
+    /// default) keeps far more than any print shows; the HTML report, which holds thousands
+    /// of drawings, writes 4 (still a hundredth of a millimetre on a 180 mm sheet).
+    pub digits: u32,
 }
 
 impl Default for DrawStyle {
@@ -102,6 +106,7 @@ impl Default for DrawStyle {
             scale: None,
             max_width_mm: 170.0,
             max_height_mm: 180.0,
+            digits: 6,
         }
     }
 }
@@ -139,7 +144,30 @@ impl Mark {
         }
     }
 
-    fn legend_text(self) -> &'static str {
+    /// Every mark, in legend order.
+    pub const ALL: [Mark; 6] = [
+        Mark::Centroid,
+        Mark::PrincipalAxes,
+        Mark::ShearCentre,
+        Mark::PlasticAxes,
+        Mark::Circumscribed,
+        Mark::ThinnestWall,
+    ];
+
+    /// The colour the mark is drawn in.
+    pub fn colour(self) -> &'static str {
+        match self {
+            Mark::Centroid => CENTROID,
+            Mark::PrincipalAxes => PRINCIPAL,
+            Mark::ShearCentre => SHEAR_CENTRE,
+            Mark::PlasticAxes => PLASTIC,
+            Mark::Circumscribed => CIRCUMSCRIBED,
+            Mark::ThinnestWall => THINNEST,
+        }
+    }
+
+    /// What the legend says about the mark.
+    pub fn legend_text(self) -> &'static str {
         match self {
             Mark::Centroid => "Centroid (elastic centre of area)",
             Mark::PrincipalAxes => "Principal axes through the centroid: 1 of I1 (major), 2 of I2",
@@ -194,7 +222,7 @@ pub fn sheet_svg(items: &[SheetItem], curves: &CurveTable, style: &DrawStyle) ->
             style.max_height_mm - 2.0 * MARGIN_MM,
         ),
     };
-    let mut sheet = Sheet::new(extent, scale);
+    let mut sheet = Sheet::new(extent, scale, style.digits);
     let mut drawn: BTreeSet<Mark> = BTreeSet::new();
     sheet.open();
     for it in items {
@@ -364,7 +392,7 @@ struct Sheet {
     out: String,
     extent: BBox,
     scale: f64,
-    /// Decimals written for drawing coordinates: about 1e-6 of the extent.
+    /// Decimals written for drawing coordinates: about 10^−digits of the extent.
     decimals: usize,
     /// Top of the legend (SVG y) and the sheet's viewBox.
     legend_top: f64,
@@ -372,9 +400,10 @@ struct Sheet {
 }
 
 impl Sheet {
-    fn new(extent: BBox, scale: f64) -> Sheet {
+    fn new(extent: BBox, scale: f64, digits: u32) -> Sheet {
         let size = extent.width().max(extent.height()).max(1e-9);
-        let decimals = (6 - size.log10().floor() as i64).clamp(0, 12) as usize;
+        let decimals =
+            (i64::from(digits.min(12)) - size.log10().floor() as i64).clamp(0, 12) as usize;
         let m = MARGIN_MM / scale;
         let width = (extent.width() + 2.0 * m).max(LEGEND_WIDTH_MM / scale);
         let legend_top = -extent.min.y + m;

@@ -4,6 +4,7 @@
 
 pub mod csv_out;
 pub mod drawing;
+pub mod html;
 pub mod table;
 
 pub use csv_out::{csv_header, csv_records, format_number, write_csv, CsvFormat};
