@@ -305,3 +305,101 @@ fn report_loads_in_chromium_without_console_messages_and_sorts_and_filters() {
     assert!(png.starts_with(b"\x89PNG"), "not a PNG");
     eprintln!("screenshot of the report: {}", shot.display());
 }
+
+// ---- The report of `sectio check` ----
+
+/// `check` of the demo catalog (three deliberate slips, four failed values) with `--report`,
+/// in `dir`; returns the page and the results CSV.
+fn check_demo(dir: &Path) -> (String, String) {
+    let catalog = demo().join("catalog.csv");
+    let out = sectio(
+        &[
+            "check".as_ref(),
+            catalog.as_os_str(),
+            "--layer".as_ref(),
+            "PROFILE".as_ref(),
+            "-o".as_ref(),
+            "results.csv".as_ref(),
+            "--report".as_ref(),
+            "check.html".as_ref(),
+        ],
+        dir,
+    );
+    assert_eq!(out.status.code(), Some(1), "some values fail: {out:?}");
+    (
+        std::fs::read_to_string(dir.join("check.html")).expect("report written"),
+        std::fs::read_to_string(dir.join("results.csv")).expect("results written"),
+    )
+}
+
+#[test]
+fn check_report_shows_each_failure_at_its_profile() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let (html, results) = check_demo(dir.path());
+    assert!(html.contains("<h1>Catalog check</h1>"));
+    assert!(html.contains("Some stated values disagree with the drawings."));
+    assert!(html.contains("not a strength check"), "the caution");
+
+    // The failures of the CSV, each in the page's failure table.
+    let mut csv = csv::Reader::from_reader(results.as_bytes());
+    let failed: Vec<csv::StringRecord> = csv
+        .records()
+        .map(|r| r.expect("record"))
+        .filter(|r| &r[10] == "fail")
+        .collect();
+    assert_eq!(failed.len(), 4, "{results}");
+    let table = html
+        .split("<table id=\"failures\"")
+        .nth(1)
+        .and_then(|t| t.split("</table>").next())
+        .expect("failure table");
+    let links: Vec<&str> = table
+        .split("<a href=\"#")
+        .skip(1)
+        .filter_map(|s| s.split('"').next())
+        .collect();
+    assert_eq!(links.len(), 4, "one link per failed value: {table}");
+    for (f, link) in failed.iter().zip(&links) {
+        assert!(table.contains(&f[4]), "property {} listed", &f[4]);
+        // The link leads to a detail section, which shows the failed comparison.
+        let at = html
+            .find(&format!("<section class=\"detail\" id=\"{link}\""))
+            .unwrap_or_else(|| panic!("no detail {link}"));
+        let detail = &html[at..html[at..].find("</section>").expect("end") + at];
+        assert!(detail.contains(&f[1]), "the part {} in {link}", &f[1]);
+        assert!(detail.contains("class=\"error-row\""), "{link}");
+        assert!(detail.contains(&f[4]), "{link}");
+    }
+    // The swapped Ix and Iy of the angle: both values, one profile.
+    assert_eq!(links[0], links[1]);
+
+    // Every summary row has the catalog verdict: 3 profiles fail, 8 pass, all measured.
+    let tags = |t: &str| html.matches(&format!("data-status=\"{t}\"")).count();
+    assert_eq!((tags("ok fail"), tags("ok pass")), (3, 8), "{html}");
+    assert_eq!(row_ids(&html).len(), 11);
+    assert!(html.contains("fail 2 of 5"));
+}
+
+#[test]
+fn check_report_filters_by_verdict_in_chromium() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    check_demo(dir.path());
+    let url = file_url(&dir.path().join("check.html"));
+    let (dom, stderr) = browse(&format!("{url}?status=fail"), &["--dump-dom"]);
+    assert_eq!(console_lines(&stderr), Vec::<&str>::new(), "{stderr}");
+    assert!(dom.contains("3 of 11 profiles shown"), "filter: {dom}");
+    let (dom, _) = browse(&format!("{url}?status=pass"), &["--dump-dom"]);
+    assert!(dom.contains("8 of 11 profiles shown"));
+    // Sorted by the number of failed values, most first: the angle (two) leads.
+    let (dom, _) = browse(&format!("{url}?sort=catalog&dir=desc"), &["--dump-dom"]);
+    let first = row_ids(&dom).into_iter().next().expect("rows");
+    let html = std::fs::read_to_string(dir.path().join("check.html")).expect("page");
+    let row = html
+        .split(&format!("<tr id=\"r-{first}\""))
+        .nth(1)
+        .expect("row");
+    assert!(
+        row[..row.find("</tr>").expect("end")].contains("angle"),
+        "{first}"
+    );
+}

@@ -292,6 +292,9 @@ pub struct Comparison {
     pub drawing: String,
     /// The profile as the catalog names it (empty when the drawing holds one).
     pub profile: String,
+    /// The number (as `measure` numbers them) of the drawing's profile the row was matched
+    /// to, when one was.
+    pub measured_profile: Option<usize>,
     /// `measure`'s name of the property in the catalog's unit, e.g. `ixx_cm4`.
     pub property: String,
     pub stated: Option<f64>,
@@ -470,11 +473,18 @@ pub fn compare(
         let drawing = cell(plan.drawing).text();
         let profile_cell = plan.profile.map_or(CatalogCell::Empty, cell);
         let profile = profile_cell.text();
+        // The profile the row means, or why there is none.
+        let picked: Result<Outcome, String> = if drawing.trim().is_empty() {
+            Err("no drawing named".into())
+        } else {
+            measured(&drawing).and_then(|outcomes| select(&outcomes, &profile_cell).cloned())
+        };
         let base = Comparison {
             line: row.line,
             label: plan.label.map_or_else(String::new, |k| cell(k).text()),
             drawing: drawing.clone(),
             profile: profile.clone(),
+            measured_profile: picked.as_ref().ok().map(|o| o.profile),
             property: String::new(),
             stated: None,
             measured: None,
@@ -483,16 +493,8 @@ pub fn compare(
             reason: String::new(),
         };
         // The profile's properties, or why there are none.
-        let selected: Result<SectionProps, String> = if drawing.trim().is_empty() {
-            Err("no drawing named".into())
-        } else {
-            measured(&drawing).and_then(|outcomes| {
-                let o = select(&outcomes, &profile_cell)?;
-                o.result
-                    .clone()
-                    .map_err(|e| format!("profile not measured: {e}"))
-            })
-        };
+        let selected: Result<SectionProps, String> =
+            picked.and_then(|o| o.result.map_err(|e| format!("profile not measured: {e}")));
         for v in &plan.values {
             let mut c = Comparison {
                 property: v.column.name(),

@@ -164,6 +164,10 @@ pub struct CheckArgs {
     #[arg(long, value_name = "FILE")]
     pub summary: Option<PathBuf>,
 
+    /// Also write an HTML report to FILE (one self-contained page, works offline): the verdict, the totals and every failed value, then every profile of the drawings named, with a catalog column (pass, fail, not listed) to sort and filter by, and for each profile its drawing to scale beside its measured values and the catalog's stated ones.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
+
     /// TOML file mapping the catalog's headers to measure's names ([columns] "Ix [cm4]" = "ixx_cm4", "Drawing file" = "drawing") and setting tolerances ([tolerances] default = "1%", ixx = "0.5%", floor = "0.1%").
     #[arg(long, value_name = "FILE")]
     pub map: Option<PathBuf>,

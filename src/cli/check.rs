@@ -12,13 +12,16 @@ use super::{
     batch, measure_settings, output_format, read_settings, run_record_start, write_atomically,
     CAUTION, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE,
 };
-use crate::analyze::Outcome;
+use rayon::prelude::*;
+
+use crate::analyze::{MeasuredDrawing, Outcome};
 use crate::check::{
     compare, is_profile_row, plan, read_catalog, summarize, Comparison, Mapping, Summary,
     TextOptions,
 };
 use crate::fem::TorsionSettings;
-use crate::report::{format_number, write_jsonl, xlsx_bytes, Cell, Table};
+use crate::import::LengthUnit;
+use crate::report::{format_number, html, write_jsonl, xlsx_bytes, Cell, CsvFormat, Row, Table};
 
 /// Exit status: the catalog cannot be used (unreadable, no drawing column, no value column).
 pub const EXIT_UNUSABLE_CATALOG: i32 = EXIT_USAGE;
@@ -108,7 +111,19 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
         },
     );
     let existing: Vec<PathBuf> = paths.iter().filter(|p| p.is_file()).cloned().collect();
-    let batch = batch::run_batch(&existing, &settings, args.jobs, |_| ())?;
+    // With --report each file's rows and geometry are kept for the page, which is built once
+    // the comparisons are known.
+    let batch = if args.report.is_some() {
+        batch::run_batch_with(&existing, args.jobs, |path| {
+            let (rows, geometry) = batch::measure_file_with_geometry(path, &settings);
+            let kept = (rows.clone(), geometry);
+            (rows, Some(kept))
+        })?
+    } else {
+        batch::run_batch_with(&existing, args.jobs, |path| {
+            (batch::measure_file(path, &settings), None)
+        })?
+    };
     let mut by_file: HashMap<String, Vec<Outcome>> = HashMap::new();
     for row in batch.rows {
         by_file.entry(row.file).or_default().push(row.outcome);
@@ -185,6 +200,47 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
                 .context("cannot write to standard output")?;
         }
     }
+    if let Some(path) = &args.report {
+        let format = CsvFormat {
+            unit: LengthUnit::MM,
+            delimiter: b',',
+            decimal_comma: false,
+            density_kg_m3: density,
+            tiers,
+        };
+        let mut run = run_record_start();
+        run.push("catalog", args.catalog.display().to_string());
+        run.push("catalog read as", table.dialect.clone());
+        if let Some(map) = &args.map {
+            run.push("mapping", map.display().to_string());
+        }
+        run.push("units", format.unit.name);
+        run.push("density", args.mass.describe(density));
+        run.push("drawings", named.len().to_string());
+        for p in &paths {
+            run.push("input", p.display().to_string());
+        }
+        run.push("caution", CAUTION);
+        let page = check_page(
+            &base,
+            &existing,
+            &batch.rendered,
+            &results,
+            &summary,
+            &mapping,
+            &format,
+        );
+        write_atomically(path, |w| {
+            html::write_page(
+                w,
+                &run,
+                &format,
+                &page.fragments.iter().collect::<Vec<_>>(),
+                Some(&page.intro),
+            )
+        })
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    }
     if let Some(path) = &args.summary {
         let md = markdown_summary(&args.catalog, &summary, &results, &mapping);
         write_atomically(path, |w| w.write_all(md.as_bytes()))
@@ -204,6 +260,83 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
     } else {
         EXIT_OK
     })
+}
+
+/// The parts of a check's HTML report: its opening and one fragment per drawing.
+struct CheckPage {
+    intro: String,
+    fragments: Vec<html::Fragment>,
+}
+
+/// Build the check report's parts. `kept[k]` holds the rows and geometry of `files[k]`
+/// (drawings named by the catalog, relative to `base`); each comparison is shown with the
+/// profile it was matched to, and every failure in the opening.
+fn check_page(
+    base: &Path,
+    files: &[PathBuf],
+    kept: &[Option<(Vec<Row>, Option<MeasuredDrawing>)>],
+    results: &[Comparison],
+    summary: &Summary,
+    mapping: &Mapping,
+    format: &CsvFormat,
+) -> CheckPage {
+    let file_no: HashMap<String, usize> = files
+        .iter()
+        .enumerate()
+        .map(|(k, f)| (f.display().to_string(), k + 1))
+        .collect();
+    // The comparisons of each (file, profile).
+    let mut matched: HashMap<(String, usize), Vec<&Comparison>> = HashMap::new();
+    for c in results {
+        if let Some(p) = c.measured_profile {
+            let file = base.join(c.drawing.trim()).display().to_string();
+            matched.entry((file, p)).or_default().push(c);
+        }
+    }
+    let link = |c: &Comparison| -> Option<String> {
+        let file = base.join(c.drawing.trim()).display().to_string();
+        Some(format!("p-{}-{}", file_no.get(&file)?, c.measured_profile?))
+    };
+    let intro = html::check_intro(summary, results, &tolerance_text(mapping), &link);
+    let fragments = kept
+        .par_iter()
+        .enumerate()
+        .filter_map(|(k, f)| {
+            let (rows, geometry) = f.as_ref()?;
+            let checks: Vec<Vec<&Comparison>> = rows
+                .iter()
+                .map(|r| {
+                    matched
+                        .get(&(r.file.clone(), r.outcome.profile))
+                        .cloned()
+                        .unwrap_or_default()
+                })
+                .collect();
+            Some(html::file_fragment(
+                k + 1,
+                rows,
+                geometry.as_ref(),
+                format,
+                Some(&checks),
+            ))
+        })
+        .collect();
+    CheckPage { intro, fragments }
+}
+
+/// The tolerance rule in words, for the summaries.
+fn tolerance_text(mapping: &Mapping) -> String {
+    let mut per: Vec<(&String, &f64)> = mapping.tolerances.per_property.iter().collect();
+    per.sort_by(|a, b| a.0.cmp(b.0));
+    format!(
+        "Tolerance: {}% of the stated value{}, at least {}% of the section's own magnitude \
+         (for values near zero).",
+        mapping.tolerances.default * 100.0,
+        per.iter()
+            .map(|(k, v)| format!(", {k} {}%", *v * 100.0))
+            .collect::<String>(),
+        mapping.tolerances.floor * 100.0
+    )
 }
 
 /// Report an unusable catalog and give its exit status.
@@ -348,17 +481,8 @@ pub fn markdown_summary(
         "| {} | {} | {} | {} | {} |\n\n",
         s.profiles, s.values, s.passed, s.failed, s.missing_drawings
     ));
-    let mut per: Vec<(&String, &f64)> = mapping.tolerances.per_property.iter().collect();
-    per.sort_by(|a, b| a.0.cmp(b.0));
-    md.push_str(&format!(
-        "Tolerance: {}% of the stated value{}, at least {}% of the section's own magnitude \
-         (for values near zero).\n\n",
-        mapping.tolerances.default * 100.0,
-        per.iter()
-            .map(|(k, v)| format!(", {k} {}%", *v * 100.0))
-            .collect::<String>(),
-        mapping.tolerances.floor * 100.0
-    ));
+    md.push_str(&tolerance_text(mapping));
+    md.push_str("\n\n");
     let failures: Vec<&Comparison> = results.iter().filter(|c| !c.pass).collect();
     if !failures.is_empty() {
         md.push_str("## Failures\n\n");

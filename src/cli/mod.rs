@@ -249,7 +249,8 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             batch::run_batch_with(&files, args.jobs, |path| {
                 let (rows, geometry) = batch::measure_file_with_geometry(path, &settings);
                 let file_no = numbers.get(path).copied().unwrap_or(0);
-                let fragment = html::file_fragment(file_no, &rows, geometry.as_ref(), &format);
+                let fragment =
+                    html::file_fragment(file_no, &rows, geometry.as_ref(), &format, None);
                 let records = csv.then(|| csv_records(&rows, &format));
                 (rows, (records, Some(fragment)))
             })?
@@ -296,8 +297,10 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             .iter()
             .filter_map(|(_, f)| f.as_ref())
             .collect();
-        write_atomically(path, |w| html::write_page(w, &run, &format, &fragments))
-            .with_context(|| format!("cannot write {}", path.display()))?;
+        write_atomically(path, |w| {
+            html::write_page(w, &run, &format, &fragments, None)
+        })
+        .with_context(|| format!("cannot write {}", path.display()))?;
     }
     let errors = rows.iter().filter(|r| r.outcome.result.is_err()).count();
     let failed_files = {
@@ -338,10 +341,21 @@ pub fn write_atomically(
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
     };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".sectio-")
-        .suffix(".tmp")
-        .tempfile_in(dir)?;
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(".sectio-").suffix(".tmp");
+    // A new output is created as any file is (read-write for all, less the umask), not
+    // owner-only as a temporary file would be; a replaced one keeps its permissions.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        builder.permissions(std::fs::Permissions::from_mode(0o666));
+    }
+    let mut tmp = builder.tempfile_in(dir)?;
+    if let Ok(old) = std::fs::metadata(path) {
+        if old.is_file() {
+            tmp.as_file().set_permissions(old.permissions()).ok();
+        }
+    }
     {
         let mut w = std::io::BufWriter::new(tmp.as_file_mut());
         write(&mut w)?;
@@ -354,7 +368,7 @@ pub fn write_atomically(
 
 #[cfg(test)]
 mod tests {
-    use super::shell_word;
+    use super::{shell_word, write_atomically};
 
     #[test]
     fn shell_words_are_quoted_where_needed() {
@@ -367,5 +381,31 @@ mod tests {
         assert_eq!(shell_word("*.dxf"), "'*.dxf'");
         assert_eq!(shell_word("$HOME"), "'$HOME'");
         assert_eq!(shell_word("it's"), "'it'\\''s'");
+    }
+
+    /// Outputs are created like any file (0666 less the umask), not owner-only like the
+    /// temporary file they are written through; a replaced file keeps its permissions.
+    #[cfg(target_os = "linux")]
+    #[test]
+    fn written_files_get_ordinary_permissions() {
+        use std::io::Write;
+        use std::os::unix::fs::PermissionsExt;
+        let umask = std::fs::read_to_string("/proc/self/status")
+            .ok()
+            .and_then(|s| {
+                s.lines()
+                    .find_map(|l| l.strip_prefix("Umask:"))
+                    .and_then(|v| u32::from_str_radix(v.trim(), 8).ok())
+            })
+            .expect("umask from /proc/self/status");
+        let dir = tempfile::tempdir().expect("temp dir");
+        let path = dir.path().join("out.csv");
+        let mode = |p: &std::path::Path| std::fs::metadata(p).expect("meta").permissions().mode();
+        write_atomically(&path, |w| w.write_all(b"a\n")).expect("write");
+        assert_eq!(mode(&path) & 0o777, 0o666 & !umask);
+        std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o640)).expect("chmod");
+        write_atomically(&path, |w| w.write_all(b"b\n")).expect("rewrite");
+        assert_eq!(mode(&path) & 0o777, 0o640);
+        assert_eq!(std::fs::read(&path).expect("read"), b"b\n");
     }
 }

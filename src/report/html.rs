@@ -23,6 +23,7 @@ use std::io;
 use super::drawing::{profile_svg, DrawStyle, Mark};
 use super::{header, numeric_values, CsvFormat, Row, RunRecord};
 use crate::analyze::{MeasuredDrawing, ProblemPlace};
+use crate::check::Comparison;
 use crate::geom::{BBox, Point, Profile, Segment};
 
 /// One file's part of the report: its summary-table rows and its detail sections.
@@ -121,11 +122,17 @@ fn sort_key(v: f64) -> String {
 /// One file's rows and details. `rows` are the file's rows; `geometry`, when the file was
 /// measured with geometry, holds the same rows' outcomes, profiles and problem boxes (same
 /// index). `file_no` is the file's 1-based position in the run.
+///
+/// `checks` is given for the report of `sectio check`: for each row (same index), the
+/// comparisons of the catalog rows matched to its profile. The summary row then has a
+/// catalog column (`pass n`, `fail k of n`, or empty when no catalog row names the profile)
+/// and the detail lists every comparison.
 pub fn file_fragment(
     file_no: usize,
     rows: &[Row],
     geometry: Option<&MeasuredDrawing>,
     fmt: &CsvFormat,
+    checks: Option<&[Vec<&Comparison>]>,
 ) -> Fragment {
     let head = header(fmt.unit, fmt.tiers);
     let keys = key_columns(&head, fmt);
@@ -160,9 +167,36 @@ pub fn file_fragment(
             outline_svg(&profiles, &[], 40.0, 24, "thumb")
         };
         let file = escape_html(&row.file);
+        // The catalog's verdict on the profile: its tag for the status filter, and its cell.
+        let compared: Option<&[&Comparison]> =
+            checks.map(|c| c.get(i).map_or(&[][..], Vec::as_slice));
+        let (tag, verdict_cell) = match compared {
+            None => (String::new(), String::new()),
+            Some([]) => (
+                " unlisted".to_string(),
+                "<td data-v=\"\" class=\"unlisted\">not listed</td>".to_string(),
+            ),
+            Some(cs) => {
+                let failed = cs.iter().filter(|c| !c.pass).count();
+                if failed == 0 {
+                    (
+                        " pass".to_string(),
+                        format!("<td data-v=\"0\" class=\"ok\">pass {}</td>", cs.len()),
+                    )
+                } else {
+                    (
+                        " fail".to_string(),
+                        format!(
+                            "<td data-v=\"{failed}\" class=\"error\">fail {failed} of {}</td>",
+                            cs.len()
+                        ),
+                    )
+                }
+            }
+        };
         let _ = write!(
             out.rows,
-            "<tr id=\"r-{id}\" data-status=\"{status}\"><td><a href=\"#{id}\" aria-label=\"details of profile {} of {file}\">{thumb}</a></td><td>{file}</td><td data-v=\"{}\">{}</td><td class=\"{status}\">{status}</td><td class=\"msg\">{}</td>",
+            "<tr id=\"r-{id}\" data-status=\"{status}{tag}\"><td><a href=\"#{id}\" aria-label=\"details of profile {} of {file}\">{thumb}</a></td><td>{file}</td><td data-v=\"{}\">{}</td><td class=\"{status}\">{status}</td>{verdict_cell}<td class=\"msg\">{}</td>",
             o.profile,
             o.profile,
             o.profile,
@@ -194,6 +228,9 @@ pub fn file_fragment(
                 "<p class=\"msg\">{}</p>",
                 escape_html(&message)
             );
+        }
+        if let Some(cs) = compared {
+            out.details.push_str(&comparison_table(cs));
         }
         out.details
             .push_str("<div class=\"pair\"><div class=\"fig\">");
@@ -254,6 +291,102 @@ pub fn file_fragment(
             .push_str("</div><p><a href=\"#summary\">Back to the table</a></p></section>\n");
     }
     out
+}
+
+/// The catalog's stated values of one profile beside the measured ones: a table with a row
+/// per comparison, failures marked; a note when no catalog row names the profile.
+fn comparison_table(cs: &[&Comparison]) -> String {
+    if cs.is_empty() {
+        return "<p class=\"note\">No catalog row names this profile.</p>".into();
+    }
+    let mut t = String::from(
+        "<table class=\"compare\"><caption>Catalog</caption><thead><tr><th>line</th><th>part</th><th>property</th><th>stated</th><th>measured</th><th>difference</th><th>allowed</th><th>status</th><th>reason</th></tr></thead><tbody>",
+    );
+    for c in cs {
+        let opt = |v: Option<f64>| v.map_or_else(String::new, show);
+        let rel = c
+            .relative_difference()
+            .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0));
+        let (class, status) = if c.pass {
+            ("ok", "pass")
+        } else {
+            ("error", "fail")
+        };
+        let _ = write!(
+            t,
+            "<tr class=\"{class}-row\"><td class=\"num\">{}</td><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}{rel}</td><td class=\"num\">{}</td><td class=\"{class}\">{status}</td><td>{}</td></tr>",
+            c.line,
+            escape_html(&c.label),
+            escape_html(&c.property),
+            opt(c.stated),
+            opt(c.measured),
+            opt(c.difference()),
+            opt(c.allowed),
+            escape_html(&c.reason)
+        );
+    }
+    t.push_str("</tbody></table>");
+    t
+}
+
+/// The opening of a check report: the verdict, the totals, the tolerance rule and every
+/// failed value, each linked to its profile's detail when the row was matched to one
+/// (`link(c)` gives the detail's id).
+pub fn check_intro(
+    summary: &crate::check::Summary,
+    results: &[Comparison],
+    tolerance: &str,
+    link: &dyn Fn(&Comparison) -> Option<String>,
+) -> String {
+    let s = summary;
+    let verdict = if s.failed == 0 && s.missing_drawings == 0 {
+        "<p class=\"verdict ok\">All stated values agree with the drawings.</p>"
+    } else {
+        "<p class=\"verdict error\">Some stated values disagree with the drawings.</p>"
+    };
+    let mut h = String::from("<h2>Verdict</h2>\n");
+    h.push_str(verdict);
+    let _ = write!(
+        h,
+        "<table class=\"totals\"><thead><tr><th>profiles</th><th>values compared</th><th>passed</th><th>failed</th><th>missing drawings</th></tr></thead><tbody><tr><td>{}</td><td>{}</td><td>{}</td><td class=\"{}\">{}</td><td class=\"{}\">{}</td></tr></tbody></table>\n<p class=\"note\">{}</p>\n",
+        s.profiles,
+        s.values,
+        s.passed,
+        if s.failed > 0 { "error" } else { "ok" },
+        s.failed,
+        if s.missing_drawings > 0 { "error" } else { "ok" },
+        s.missing_drawings,
+        escape_html(tolerance)
+    );
+    let failures: Vec<&Comparison> = results.iter().filter(|c| !c.pass).collect();
+    if !failures.is_empty() {
+        h.push_str("<h3>Failed values</h3>\n<table id=\"failures\" class=\"compare\"><thead><tr><th>line</th><th>part</th><th>drawing</th><th>profile</th><th>property</th><th>stated</th><th>measured</th><th>difference</th><th>reason</th></tr></thead><tbody>\n");
+        for c in failures {
+            let opt = |v: Option<f64>| v.map_or_else(String::new, show);
+            let rel = c
+                .relative_difference()
+                .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0));
+            let drawing = escape_html(&c.drawing);
+            let drawing = match link(c) {
+                Some(id) => format!("<a href=\"#{id}\">{drawing}</a>"),
+                None => drawing,
+            };
+            let _ = writeln!(
+                h,
+                "<tr><td class=\"num\">{}</td><td>{}</td><td>{drawing}</td><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}{rel}</td><td>{}</td></tr>",
+                c.line,
+                escape_html(&c.label),
+                escape_html(&c.profile),
+                escape_html(&c.property),
+                opt(c.stated),
+                opt(c.measured),
+                opt(c.difference()),
+                escape_html(&c.reason)
+            );
+        }
+        h.push_str("</tbody></table>\n");
+    }
+    h
 }
 
 /// A small SVG of the profiles' material (outer loops and holes as polygons through their
@@ -376,6 +509,13 @@ section.detail{content-visibility:auto;contain-intrinsic-size:auto 600px;border-
 table.values{border-collapse:collapse;font-size:.85em}
 table.values th{text-align:left;font-weight:normal;padding:0 1em 0 0;font-family:ui-monospace,monospace}
 p.note{font-size:.85em;color:#555}
+.unlisted{color:#555}
+p.verdict{font-size:1.1em}
+table.totals,table.compare{border-collapse:collapse;font-size:.85em;margin:.4em 0}
+table.totals td,table.totals th,table.compare td,table.compare th{border-bottom:1px solid #ddd;padding:2px 6px;text-align:left}
+table.totals td,table.compare td.num{text-align:right;font-variant-numeric:tabular-nums}
+table.compare caption{text-align:left;font-weight:bold}
+tr.error-row{background:#fbeff1}
 "#;
 
 const SCRIPT: &str = r#"
@@ -424,7 +564,7 @@ const SCRIPT: &str = r#"
     var s = statusBox.value;
     var shown = 0;
     rows.forEach(function (r, k) {
-      var ok = (s === "" || r.getAttribute("data-status") === s) && (q === "" || texts[k].indexOf(q) >= 0);
+      var ok = (s === "" || (" " + r.getAttribute("data-status") + " ").indexOf(" " + s + " ") >= 0) && (q === "" || texts[k].indexOf(q) >= 0);
       r.hidden = !ok;
       if (ok) { shown++; }
     });
@@ -459,19 +599,27 @@ const SCRIPT: &str = r#"
 "#;
 
 /// Write the whole page: the run record, the legend, the summary table of every file's rows
-/// and every detail section, in the order of `fragments`.
+/// and every detail section, in the order of `fragments`. `check` is the opening of a check
+/// report ([`check_intro`]); with it the page is titled as a catalog check and its table has
+/// the catalog column the fragments were built with.
 pub fn write_page(
     w: &mut dyn io::Write,
     run: &RunRecord,
     fmt: &CsvFormat,
     fragments: &[&Fragment],
+    check: Option<&str>,
 ) -> io::Result<()> {
     let head = header(fmt.unit, fmt.tiers);
     let keys = key_columns(&head, fmt);
+    let title = if check.is_some() {
+        "Catalog check"
+    } else {
+        "Section properties"
+    };
     let mut top = String::new();
-    top.push_str("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"><title>Section properties: sectio report</title>\n<style>");
+    let _ = write!(top, "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"><title>{title}: sectio report</title>\n<style>");
     top.push_str(STYLE);
-    top.push_str("</style></head><body>\n<h1>Section properties</h1>\n");
+    let _ = writeln!(top, "</style></head><body>\n<h1>{title}</h1>");
     let mut caution = "";
     let mut inputs: Vec<&str> = Vec::new();
     top.push_str("<table class=\"run\"><tbody>\n");
@@ -506,6 +654,9 @@ pub fn write_page(
     if !caution.is_empty() {
         let _ = writeln!(top, "<p class=\"caution\">{}</p>", escape_html(caution));
     }
+    if let Some(intro) = check {
+        top.push_str(intro);
+    }
     top.push_str("<h2>Marks on the drawings</h2>\n<ul class=\"legend\">\n<li><span class=\"swatch\" style=\"background:#5b6e82\"></span>Material (holes left open)</li>\n");
     for m in Mark::ALL {
         let _ = writeln!(
@@ -518,8 +669,18 @@ pub fn write_page(
     }
     top.push_str("<li><span class=\"swatch\" style=\"background:#fff;border-color:#d00000;border-width:3px\"></span>Where a problem stopped a profile (error rows)</li>\n</ul>\n");
     top.push_str("<p class=\"note\">Detail drawings are to scale, with the scale and a scale bar in their legend; a mark appears only when its tier was computed (--plastic, --extrusion, --torsion or --all).</p>\n");
-    top.push_str("<h2>Profiles</h2>\n<div class=\"controls\"><label>Filter <input id=\"filter\" type=\"search\" placeholder=\"text in any column\"></label> <label>Status <select id=\"status\"><option value=\"\">all</option><option value=\"ok\">ok</option><option value=\"error\">error</option></select></label> <span id=\"count\"></span></div>\n");
-    top.push_str("<table id=\"summary\"><thead><tr><th>drawing</th><th data-key=\"file\"><button type=\"button\">file</button></th><th data-key=\"profile\" data-type=\"num\"><button type=\"button\">profile</button></th><th data-key=\"status\"><button type=\"button\">status</button></th><th data-key=\"message\"><button type=\"button\">message</button></th>");
+    let catalog_options = if check.is_some() {
+        "<option value=\"fail\">catalog: fail</option><option value=\"pass\">catalog: pass</option><option value=\"unlisted\">catalog: not listed</option>"
+    } else {
+        ""
+    };
+    let _ = write!(top, "<h2>Profiles</h2>\n<div class=\"controls\"><label>Filter <input id=\"filter\" type=\"search\" placeholder=\"text in any column\"></label> <label>Status <select id=\"status\"><option value=\"\">all</option><option value=\"ok\">ok</option><option value=\"error\">error</option>{catalog_options}</select></label> <span id=\"count\"></span></div>\n");
+    let catalog_head = if check.is_some() {
+        "<th data-key=\"catalog\" data-type=\"num\"><button type=\"button\">catalog</button></th>"
+    } else {
+        ""
+    };
+    let _ = write!(top, "<table id=\"summary\"><thead><tr><th>drawing</th><th data-key=\"file\"><button type=\"button\">file</button></th><th data-key=\"profile\" data-type=\"num\"><button type=\"button\">profile</button></th><th data-key=\"status\"><button type=\"button\">status</button></th>{catalog_head}<th data-key=\"message\"><button type=\"button\">message</button></th>");
     for &k in &keys {
         let name = escape_html(&head[k]);
         // Long names may break after an underscore.
