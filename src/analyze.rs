@@ -57,19 +57,27 @@ pub struct Outcome {
 }
 
 /// Default chaining gap: 1e-4 of the drawing's extent (its bounding-box diagonal), kept
-/// between 1e-6 mm and 0.05 mm, so that CAD rounding (micrometres) closes and real gaps
-/// (tenths of a millimetre and more) do not (common practice; see README). It is also kept
-/// at most a quarter of the drawing's short segments (`short_segment_mm`, see
-/// [`drawing_scale`]; not below 1e-6 mm): the gap is the size below which a segment counts as
-/// noise, and a finely divided outline (a curve exported as thousands of short lines) must
-/// keep its segments.
+/// between the floor ([`gap_floor`]: 1e-6 mm) and 0.05 mm, so that CAD rounding
+/// (micrometres) closes and real gaps (tenths of a millimetre and more) do not (common
+/// practice; see README). It is also kept at most a quarter of the drawing's short segments
+/// (`short_segment_mm`, see [`drawing_scale`]; not below the floor): the gap is the size
+/// below which a segment counts as noise, and a finely divided outline (a curve exported as
+/// thousands of short lines) must keep its segments.
 pub fn default_join_gap(extent_mm: f64, short_segment_mm: f64) -> f64 {
-    extent_gap(extent_mm).min((0.25 * short_segment_mm).max(1e-6))
+    let floor = gap_floor(extent_mm);
+    extent_gap(extent_mm).min((0.25 * short_segment_mm).max(floor))
 }
 
-/// The gap by extent alone: 1e-4 of it, kept between 1e-6 mm and 0.05 mm.
+/// The smallest default gap: 1e-6 mm, or 1e-8 of the extent in a drawing under 100 mm (not
+/// below 1e-12 mm), so that a small drawing keeps its small features: the same profile drawn
+/// at a thousandth of the size chains alike and gives the same results scaled.
+fn gap_floor(extent_mm: f64) -> f64 {
+    (extent_mm * 1e-8).clamp(1e-12, 1e-6)
+}
+
+/// The gap by extent alone: 1e-4 of it, kept between the floor and 0.05 mm.
 fn extent_gap(extent_mm: f64) -> f64 {
-    (extent_mm * 1e-4).clamp(1e-6, 0.05)
+    (extent_mm * 1e-4).clamp(gap_floor(extent_mm), 0.05)
 }
 
 /// The extent of a drawing's pieces (the diagonal of a box holding them) and the length of
@@ -538,7 +546,9 @@ mod tests {
         let inf = f64::INFINITY;
         assert_eq!(default_join_gap(100.0, inf), 0.01);
         assert_eq!(default_join_gap(1000.0, inf), 0.05); // capped
-        assert_eq!(default_join_gap(0.001, inf), 1e-6); // floor
+        assert!((default_join_gap(0.001, inf) - 1e-7).abs() < 1e-20); // 1e-4 of a tiny extent
+        assert_eq!(default_join_gap(1e-6, 1e-20), 1e-12); // the floor's floor
+        assert!((default_join_gap(0.01, 1e-12) - 1e-10).abs() < 1e-22); // 1e-8 of a small extent
         assert_eq!(default_join_gap(100.0, 0.02), 0.005); // a quarter of the short segments
         assert_eq!(default_join_gap(100.0, 1e-9), 1e-6); // never below the floor
     }

@@ -236,7 +236,7 @@ pub struct ReadArgs {
     pub hatch_outlines: bool,
 
     /// Largest gap in millimetres closed when chaining loose entities into loops.
-    /// Default: 1e-4 of the drawing's extent, between 0.000001 and 0.05 mm, and at most a quarter of its short segments. Larger gaps are reported, never closed silently; `explain` shows how the gap was chosen.
+    /// Default: 1e-4 of the drawing's extent, between 0.000001 mm (1e-8 of the extent in drawings under 100 mm) and 0.05 mm, and at most a quarter of its short segments. Larger gaps are reported, never closed silently; `explain` shows how the gap was chosen.
     #[arg(long, value_name = "MM")]
     pub gap: Option<f64>,
 

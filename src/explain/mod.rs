@@ -111,7 +111,7 @@ pub struct GapChoice {
     pub given: bool,
     /// Diagonal of the box of all pieces.
     pub extent: f64,
-    /// The default by extent alone: 1e-4 of `extent`, kept between 1e-6 and 0.05 mm.
+    /// The default by extent alone: 1e-4 of `extent`, kept between the floor (1e-6 mm, 1e-8 of the extent under 100 mm) and 0.05 mm.
     pub by_extent: f64,
     /// The drawing's short segments (1st percentile of lengths), infinite when none is short
     /// enough to lower the default.

@@ -223,7 +223,7 @@ fn write_gap(w: &mut dyn Write, g: &GapChoice) -> io::Result<()> {
     }
     writeln!(
         w,
-        "  by extent: 1e-4 of the drawing's extent (box diagonal {} mm), kept between 0.000001 and 0.05 mm: {} mm",
+        "  by extent: 1e-4 of the drawing's extent (box diagonal {} mm), kept between 0.000001 mm (1e-8 of the extent under 100 mm) and 0.05 mm: {} mm",
         fmt_len(g.extent),
         fmt_len(g.by_extent)
     )?;

@@ -188,18 +188,26 @@ impl Arc {
         }
     }
 
+    /// Bulges smaller than this (in size) give straight edges. Such an arc's centre lies
+    /// c / (4·b) away (c the chord), so any arithmetic through its centre carries rounding of
+    /// about ε·c/(4·b) in position, while the region between chord and arc has area
+    /// (2/3)·c·(c·b/2) = b·c²/3: below b ≈ √ε ≈ 1.5e-8 the chord is the more accurate edge.
+    /// At 1e-8 the area left out is under 3.4e-9·c² (a polyline edge of 100 mm: 3.4e-5 mm²).
+    pub const STRAIGHT_BULGE: f64 = 1e-8;
+
     /// A full circle, counter-clockwise, starting at angle 0.
     pub fn circle(center: Point, radius: f64) -> Arc {
         Arc::from_center(center, radius, 0.0, TAU)
     }
 
     /// Arc between two points given a polyline bulge (tan of a quarter of the included angle,
-    /// positive counter-clockwise; DXF reference, LWPOLYLINE group 42). `None` for a zero bulge
-    /// or coincident points, which are straight (or empty) edges.
+    /// positive counter-clockwise; DXF reference, LWPOLYLINE group 42). `None` for coincident
+    /// points (an empty edge) and for a bulge under [`Arc::STRAIGHT_BULGE`] in size, which is a
+    /// straight edge.
     pub fn from_bulge(start: Point, end: Point, bulge: f64) -> Option<Arc> {
         let chord = end - start;
         let c = chord.norm();
-        if bulge == 0.0 || !bulge.is_finite() || c == 0.0 {
+        if bulge.abs() < Self::STRAIGHT_BULGE || !bulge.is_finite() || c == 0.0 {
             return None;
         }
         // Included angle θ = 4·atan(b); radius r = c / (2·sin(θ/2)); the centre lies on the
