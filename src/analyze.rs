@@ -26,7 +26,17 @@ pub struct Settings {
     /// Also compute the torsion and warping constants and the shear centre, with these
     /// solver settings ([`crate::fem::torsion`]).
     pub torsion: Option<TorsionSettings>,
+    /// Longest time one file may take ([`crate::time_limit`]); a file that takes longer is
+    /// an error row. `None`: no limit.
+    pub time_limit: Option<std::time::Duration>,
+    /// Largest file read, in bytes: a larger one is an error row, read no further than that
+    /// (the batch reads each file whole into memory).
+    pub max_file_bytes: u64,
 }
+
+/// Default of [`Settings::max_file_bytes`]: 1 GiB, far above any profile drawing (the
+/// largest of the real-drawing corpus is a few megabytes) and within a laptop's memory.
+pub const DEFAULT_MAX_FILE_BYTES: u64 = 1 << 30;
 
 impl Default for Settings {
     fn default() -> Self {
@@ -38,6 +48,8 @@ impl Default for Settings {
             plastic: false,
             extrusion: false,
             torsion: None,
+            time_limit: None,
+            max_file_bytes: DEFAULT_MAX_FILE_BYTES,
         }
     }
 }
@@ -117,21 +129,47 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
 }
 
 /// Read and measure one DXF or SVG file held in memory (told apart by content, see
-/// [`import::svg::looks_like_svg`]).
+/// [`import::svg::looks_like_svg`]), within `settings.time_limit`.
 pub fn analyze_drawing(bytes: &[u8], settings: &Settings) -> Vec<Outcome> {
-    match read_drawing(bytes, settings) {
-        Ok(d) => measure_drawing(d, settings),
-        Err(e) => file_row("", e),
-    }
+    analyze_drawing_with_geometry(bytes, settings).outcomes
 }
 
 /// [`analyze_drawing`], keeping each row's profiles and the curve table
 /// ([`measure_drawing_with_geometry`]).
 pub fn analyze_drawing_with_geometry(bytes: &[u8], settings: &Settings) -> MeasuredDrawing {
-    match read_drawing(bytes, settings) {
+    if bytes.len() as u64 > settings.max_file_bytes {
+        return MeasuredDrawing::file_row(
+            "",
+            too_large(settings.max_file_bytes),
+            CurveTable::default(),
+        );
+    }
+    let work = || match read_drawing(bytes, settings) {
         Ok(d) => measure_drawing_with_geometry(d, settings),
         Err(e) => MeasuredDrawing::file_row("", e, CurveTable::default()),
+    };
+    match settings.time_limit {
+        None => work(),
+        Some(limit) => crate::time_limit::run(Some(limit), work).unwrap_or_else(|e| {
+            MeasuredDrawing::file_row("", time_limit_message(limit, e.step), CurveTable::default())
+        }),
     }
+}
+
+/// The error of a file over [`Settings::max_file_bytes`].
+pub fn too_large(limit: u64) -> String {
+    format!(
+        "file larger than the limit of {} MB (--max-file-size)",
+        limit.div_ceil(1 << 20)
+    )
+}
+
+/// The error of a file stopped by [`Settings::time_limit`] while in `step`.
+pub fn time_limit_message(limit: std::time::Duration, step: &str) -> String {
+    format!(
+        "stopped after the time limit of {} s while {step} (--time-limit)",
+        limit.as_secs_f64()
+    )
 }
 
 /// The reader's drawing, or its error as text.
@@ -275,7 +313,9 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         let (extent, short) = drawing_scale(&drawing.pieces);
         default_join_gap(extent, short)
     });
+    crate::time_limit::check_now("reading");
     let chained = chain(drawing.pieces, join_gap);
+    crate::time_limit::check_now("chaining loops");
     let mut problems = chained.problems;
     let strays_are_errors = open_paths_are_errors(&drawing.file);
     if strays_are_errors {
@@ -283,6 +323,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
     }
     let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
     let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
+    crate::time_limit::check_now("nesting loops");
     let profiles = nested.profiles;
 
     if !skipped.is_empty() {
@@ -340,15 +381,18 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
     // (never expected) leaves its columns empty and says why in the message.
     let curve_table = &drawing.curves;
     let measure = |ps: &[&Profile]| -> (SectionProps, Option<String>) {
+        crate::time_limit::check_now("measuring a profile");
         let mut props = section_props(ps);
         let mut failed: Vec<String> = Vec::new();
         if settings.plastic {
+            crate::time_limit::check_now("the plastic properties");
             match plastic_props(ps, curve_table, &props) {
                 Ok(p) => props.plastic = Some(p),
                 Err(e) => failed.push(e),
             }
         }
         if settings.extrusion {
+            crate::time_limit::check_now("the extrusion figures");
             match extrusion_props(ps, curve_table) {
                 Ok(x) => props.extrusion = Some(x),
                 Err(e) => failed.push(e),
@@ -360,7 +404,13 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
             let solved = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
                 torsion_props(ps, &props, t)
             }))
-            .unwrap_or_else(|_| Err("internal error in the torsion solver".to_string()));
+            .unwrap_or_else(|payload| {
+                // The time limit passes through to the file's row (time_limit::run).
+                if payload.is::<crate::time_limit::Exceeded>() {
+                    std::panic::resume_unwind(payload)
+                }
+                Err("internal error in the torsion solver".to_string())
+            });
             match solved {
                 Ok(x) => {
                     if !x.converged {

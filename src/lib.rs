@@ -24,6 +24,7 @@ pub mod report;
 pub mod section;
 #[cfg(test)]
 mod test_rng;
+pub mod time_limit;
 pub use analyze::{
     analyze_drawing, analyze_drawing_with_geometry, measure_drawing, measure_drawing_with_geometry,
     MeasuredDrawing, Outcome, Settings,

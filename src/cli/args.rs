@@ -195,6 +195,9 @@ pub struct CheckArgs {
     #[command(flatten)]
     pub read: ReadArgs,
 
+    #[command(flatten)]
+    pub limits: LimitArgs,
+
     /// Measure all profiles of each drawing as one section (built-up sections).
     #[arg(long)]
     pub merge: bool,
@@ -212,6 +215,29 @@ pub struct CheckArgs {
 }
 
 /// The reading options of `explain`: the same flags, help and defaults as `measure`'s.
+/// Limits that keep one file from holding up or swamping a batch (`measure`, `check`).
+#[derive(Debug, clap::Args)]
+pub struct LimitArgs {
+    /// Longest time one file may take, in seconds (e.g. 30 or 0.5); a file that takes longer becomes an error row naming the step it was in, and the run goes on. Default: no limit.
+    #[arg(long, value_name = "SECONDS", value_parser = seconds)]
+    pub time_limit: Option<std::time::Duration>,
+
+    /// Largest file read, in megabytes; a larger one becomes an error row without being read whole. Default 1024.
+    #[arg(long, value_name = "MB", default_value_t = 1024, value_parser = clap::value_parser!(u64).range(1..=1 << 24))]
+    pub max_file_size: u64,
+}
+
+fn seconds(text: &str) -> Result<std::time::Duration, String> {
+    let v: f64 = text
+        .trim()
+        .parse()
+        .map_err(|_| format!("expected a number of seconds, found {text:?}"))?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err("the time limit must be a positive number of seconds".into());
+    }
+    std::time::Duration::try_from_secs_f64(v).map_err(|e| e.to_string())
+}
+
 /// How drawings are read: the options `measure` and `explain` share.
 #[derive(Debug, clap::Args)]
 pub struct ReadArgs {
@@ -386,6 +412,9 @@ pub struct MeasureArgs {
 
     #[command(flatten)]
     pub read: ReadArgs,
+
+    #[command(flatten)]
+    pub limits: LimitArgs,
 
     /// Measure all profiles of a file as one section (a built-up or multi-part section).
     #[arg(long)]

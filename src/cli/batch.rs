@@ -111,13 +111,13 @@ pub fn run_batch_with<T: Send>(
 
 /// All rows of one file; never panics.
 pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
-    let analyzed = with_file_bytes(path, |bytes| {
+    let analyzed = with_file_bytes(path, settings.max_file_bytes, |bytes| {
         catch_unwind(AssertUnwindSafe(|| analyze_drawing(bytes, settings)))
     });
     let outcomes = match analyzed {
         Ok(Ok(o)) => o,
         Ok(Err(payload)) => vec![panic_row(payload)],
-        Err(e) => vec![file_error(format!("cannot read file: {e}"))],
+        Err(e) => vec![read_error(&e, settings)],
     };
     rows_of(path, outcomes)
 }
@@ -129,7 +129,7 @@ pub fn measure_file_with_geometry(
     path: &Path,
     settings: &Settings,
 ) -> (Vec<Row>, Option<MeasuredDrawing>) {
-    let analyzed = with_file_bytes(path, |bytes| {
+    let analyzed = with_file_bytes(path, settings.max_file_bytes, |bytes| {
         catch_unwind(AssertUnwindSafe(|| {
             analyze_drawing_with_geometry(bytes, settings)
         }))
@@ -140,10 +140,7 @@ pub fn measure_file_with_geometry(
             (rows_of(path, outcomes), Some(m))
         }
         Ok(Err(payload)) => (rows_of(path, vec![panic_row(payload)]), None),
-        Err(e) => (
-            rows_of(path, vec![file_error(format!("cannot read file: {e}"))]),
-            None,
-        ),
+        Err(e) => (rows_of(path, vec![read_error(&e, settings)]), None),
     }
 }
 
@@ -180,15 +177,23 @@ thread_local! {
 /// Run `f` on the bytes of the file at `path`, read into this thread's reusable buffer.
 ///
 /// Reads until end of file without asking the file's size first (`read_to_end` would add a
-/// `statx` and an `lseek` per file): two `read` calls for a file that fits the buffer.
-fn with_file_bytes<R>(path: &Path, f: impl FnOnce(&[u8]) -> R) -> std::io::Result<R> {
+/// `statx` and an `lseek` per file): two `read` calls for a file that fits the buffer. A file
+/// of more than `limit` bytes is read no further (`ErrorKind::FileTooLarge`). A buffer grown
+/// past [`KEEP_BUFFER`] for a large file is let go afterwards, so that memory stays flat.
+fn with_file_bytes<R>(path: &Path, limit: u64, f: impl FnOnce(&[u8]) -> R) -> std::io::Result<R> {
     use std::io::Read;
     let mut buf = READ_BUFFER.with(|c| std::mem::take(&mut *c.borrow_mut()));
+    let cap = usize::try_from(limit)
+        .unwrap_or(usize::MAX)
+        .saturating_add(1);
     let read = std::fs::File::open(path).and_then(|mut file| {
         let mut filled = 0;
         loop {
             if filled == buf.len() {
-                buf.resize((2 * buf.len()).max(256 * 1024), 0);
+                if filled >= cap {
+                    return Err(std::io::Error::from(std::io::ErrorKind::FileTooLarge));
+                }
+                buf.resize((2 * buf.len()).clamp(256 * 1024, cap), 0);
             }
             match file.read(&mut buf[filled..]) {
                 Ok(0) => return Ok(filled),
@@ -199,8 +204,22 @@ fn with_file_bytes<R>(path: &Path, f: impl FnOnce(&[u8]) -> R) -> std::io::Resul
         }
     });
     let out = read.map(|filled| f(&buf[..filled]));
-    READ_BUFFER.with(|c| *c.borrow_mut() = buf);
+    if buf.len() <= KEEP_BUFFER {
+        READ_BUFFER.with(|c| *c.borrow_mut() = buf);
+    }
     out
+}
+
+/// Largest read buffer a worker thread keeps between files (64 MiB).
+const KEEP_BUFFER: usize = 64 << 20;
+
+/// The error row of a file that could not be read.
+fn read_error(e: &std::io::Error, settings: &Settings) -> Outcome {
+    if e.kind() == std::io::ErrorKind::FileTooLarge {
+        file_error(crate::analyze::too_large(settings.max_file_bytes))
+    } else {
+        file_error(format!("cannot read file: {e}"))
+    }
 }
 
 fn file_error(msg: String) -> Outcome {

@@ -9,8 +9,8 @@ use anyhow::Context;
 
 use super::args::{CheckArgs, FormatArg};
 use super::{
-    batch, measure_settings, output_format, read_settings, run_record_start, write_atomically,
-    CAUTION, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE,
+    batch, measure_settings, output_format, read_settings, run_record_start, with_limits,
+    write_atomically, CAUTION, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE,
 };
 use rayon::prelude::*;
 
@@ -100,7 +100,7 @@ pub fn check(args: CheckArgs) -> anyhow::Result<i32> {
     named.dedup();
     let paths: Vec<PathBuf> = named.iter().map(|d| base.join(d.trim())).collect();
     let tiers = plan.tiers();
-    let read = read_settings(&args.read, false)?;
+    let read = with_limits(read_settings(&args.read, false)?, &args.limits);
     let settings = measure_settings(
         read,
         args.merge,

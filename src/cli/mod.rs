@@ -22,7 +22,7 @@ use crate::report::table::utc_date_time;
 use crate::report::{
     csv_header, csv_records, measure_table, write_jsonl, xlsx_bytes, CsvFormat, RunRecord, Tiers,
 };
-use args::{Cli, Command, FormatArg, MeasureArgs, ReadArgs, UnitArg};
+use args::{Cli, Command, FormatArg, LimitArgs, MeasureArgs, ReadArgs, UnitArg};
 
 /// Exit status: every profile measured.
 pub const EXIT_OK: i32 = 0;
@@ -42,6 +42,7 @@ pub(crate) fn unit(u: UnitArg) -> LengthUnit {
 
 /// Run a parsed command line; returns the exit status.
 pub fn run(cli: Cli) -> anyhow::Result<i32> {
+    interrupt::install();
     match cli.command {
         Command::Measure(args) => measure(args),
         Command::Explain(args) => explain::explain(args),
@@ -89,7 +90,80 @@ fn read_settings(read: &ReadArgs, census: bool) -> anyhow::Result<Settings> {
         plastic: false,
         extrusion: false,
         torsion: None,
+        time_limit: None,
+        max_file_bytes: crate::analyze::DEFAULT_MAX_FILE_BYTES,
     })
+}
+
+mod interrupt {
+    //! Ctrl-C and SIGTERM: remove the temporary files of outputs being written, then exit
+    //! with status 130 (the shell's 128 + SIGINT). Outputs already renamed into place are
+    //! whole; older outputs are left as they were.
+
+    use std::path::PathBuf;
+    use std::sync::Mutex;
+
+    static WRITING: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+    /// Exit status of an interrupted run.
+    pub const EXIT_INTERRUPTED: i32 = 130;
+
+    /// Install the handler (once; later calls, as from tests running the CLI in-process,
+    /// are ignored).
+    pub fn install() {
+        let _ = ctrlc::set_handler(|| {
+            let paths = match WRITING.lock() {
+                Ok(mut w) => std::mem::take(&mut *w),
+                Err(poisoned) => std::mem::take(&mut *poisoned.into_inner()),
+            };
+            for p in paths {
+                let _ = std::fs::remove_file(p);
+            }
+            eprintln!("sectio: interrupted; no output written");
+            std::process::exit(EXIT_INTERRUPTED);
+        });
+    }
+
+    /// The temporary files listed now.
+    #[cfg(test)]
+    pub fn writing() -> Vec<PathBuf> {
+        WRITING.lock().map(|w| w.clone()).unwrap_or_default()
+    }
+
+    /// A temporary file being written, listed for the handler until dropped. The lock is
+    /// held while the list changes, so the handler never misses a file created before it ran.
+    pub struct Registered(PathBuf);
+
+    impl Registered {
+        /// Create a temporary file with `create` and list it, under the lock: an interrupt
+        /// arriving meanwhile waits, then finds the file listed.
+        pub fn create(
+            create: impl FnOnce() -> std::io::Result<tempfile::NamedTempFile>,
+        ) -> std::io::Result<(tempfile::NamedTempFile, Registered)> {
+            let mut w = WRITING.lock().unwrap_or_else(|p| p.into_inner());
+            let file = create()?;
+            let path = file.path().to_path_buf();
+            w.push(path.clone());
+            Ok((file, Registered(path)))
+        }
+    }
+
+    impl Drop for Registered {
+        fn drop(&mut self) {
+            if let Ok(mut w) = WRITING.lock() {
+                w.retain(|p| p != &self.0);
+            }
+        }
+    }
+}
+
+/// `settings` with the batch limits of `limits`.
+fn with_limits(settings: Settings, limits: &LimitArgs) -> Settings {
+    Settings {
+        time_limit: limits.time_limit,
+        max_file_bytes: limits.max_file_size << 20,
+        ..settings
+    }
 }
 
 /// The safety caution every output that lists properties carries.
@@ -201,7 +275,7 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     let output_format = output_format(args.format, args.output.as_deref(), csv_flag)?;
     let delimiter = parse_delimiter(args.delimiter.as_deref(), args.decimal_comma)?;
     let density = args.mass.density_kg_m3().map_err(anyhow::Error::msg)?;
-    let read = read_settings(&args.read, false)?;
+    let read = with_limits(read_settings(&args.read, false)?, &args.limits);
     let files = batch::collect_files(&args.paths)?;
     if files.is_empty() {
         bail!("no .dxf or .svg files found in the given paths");
@@ -332,7 +406,9 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
 }
 
 /// Write to a temporary file beside `path`, then rename it over `path`: readers never see
-/// a half-written file, and a failed run leaves the old file (or none).
+/// a half-written file, and a failed run leaves the old file (or none). The temporary file
+/// is registered with [`interrupt`] while it exists, so that an interrupted run (Ctrl-C,
+/// SIGTERM) removes it: no partial output is left behind.
 pub fn write_atomically(
     path: &Path,
     write: impl FnOnce(&mut std::io::BufWriter<&mut std::fs::File>) -> std::io::Result<()>,
@@ -350,7 +426,7 @@ pub fn write_atomically(
         use std::os::unix::fs::PermissionsExt;
         builder.permissions(std::fs::Permissions::from_mode(0o666));
     }
-    let mut tmp = builder.tempfile_in(dir)?;
+    let (mut tmp, _registered) = interrupt::Registered::create(|| builder.tempfile_in(dir))?;
     if let Ok(old) = std::fs::metadata(path) {
         if old.is_file() {
             tmp.as_file().set_permissions(old.permissions()).ok();
@@ -381,6 +457,37 @@ mod tests {
         assert_eq!(shell_word("*.dxf"), "'*.dxf'");
         assert_eq!(shell_word("$HOME"), "'$HOME'");
         assert_eq!(shell_word("it's"), "'it'\\''s'");
+    }
+
+    /// While an output is being written its temporary file is listed for the interrupt
+    /// handler (which removes what is listed), and only then.
+    #[test]
+    fn the_interrupt_handler_sees_the_file_being_written() {
+        use std::io::Write;
+        let dir = tempfile::tempdir().expect("temp dir");
+        let path = dir.path().join("out.csv");
+        let listed = || -> Vec<std::path::PathBuf> {
+            super::interrupt::writing()
+                .into_iter()
+                .filter(|p| p.starts_with(dir.path()))
+                .collect()
+        };
+        write_atomically(&path, |w| {
+            let now = listed();
+            assert_eq!(now.len(), 1, "{now:?}");
+            assert!(now[0].exists(), "the listed file is the one being written");
+            assert!(now[0]
+                .file_name()
+                .is_some_and(|n| n.to_string_lossy().starts_with(".sectio-")));
+            w.write_all(b"x\n")
+        })
+        .expect("write");
+        assert!(listed().is_empty());
+        // A failed write is unlisted too, and leaves nothing.
+        let failed = write_atomically(&path, |_| Err(std::io::Error::other("disk full")));
+        assert!(failed.is_err());
+        assert!(listed().is_empty());
+        assert_eq!(std::fs::read_dir(dir.path()).expect("dir").count(), 1);
     }
 
     /// Outputs are created like any file (0666 less the umask), not owner-only like the

@@ -314,6 +314,7 @@ impl Hierarchy {
         let mut rz: f64 = r.iter().zip(&z).map(|(a, b)| a * b).sum();
         let mut q = vec![0.0; n];
         for _ in 0..MAX_ITERATIONS {
+            crate::time_limit::check("solving for torsion");
             let r_norm = r.iter().map(|v| v * v).sum::<f64>().sqrt();
             if r_norm <= tolerance * norm_b {
                 return Ok(x);

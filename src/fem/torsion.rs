@@ -450,6 +450,7 @@ pub fn torsion_props(
     let rp = (ip / area).abs().sqrt();
     let iw_floor = 0.01 * ip * ip / area;
     loop {
+        crate::time_limit::check_now("solving for torsion");
         let (k, f, points) = assemble(&mesh, &hierarchy.held, &tables)?;
         let (nodes, elements) = (mesh.nodes.len(), mesh.elements.len());
         hierarchy.push(mesh, k);

@@ -312,6 +312,7 @@ impl<'a> Reader<'a, '_> {
         budget: &mut usize,
     ) -> Result<(), ImportError> {
         for item in &block.items {
+            crate::time_limit::check("expanding blocks");
             let (own, origin) = match item {
                 Item::Piece { layer, origin, .. } | Item::Curve { layer, origin, .. } => {
                     (layer, origin)

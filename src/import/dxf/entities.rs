@@ -288,6 +288,7 @@ impl<'a> Reader<'a, '_> {
     pub(super) fn read_entities(&mut self) -> Result<(), ImportError> {
         loop {
             self.advance_in("ENTITIES")?;
+            crate::time_limit::check("reading the entities");
             if self.opts.census && self.pairs.cur.code == 0 {
                 self.count_entity(); // for `sectio explain` (census.rs)
             }

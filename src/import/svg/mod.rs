@@ -475,6 +475,7 @@ impl<'a, 'input> Reader<'a, 'input> {
         in_use: bool,
     ) {
         for c in n.children().filter(Node::is_element) {
+            crate::time_limit::check("reading the SVG elements");
             self.element(c, ctm, page, style, layer, in_use);
         }
     }
