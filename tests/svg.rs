@@ -635,3 +635,23 @@ fn measure_takes_a_folder_mixing_dxf_and_svg() {
         .expect("runs");
     assert_eq!(out.status.code(), Some(2));
 }
+
+#[test]
+fn deeply_nested_groups_are_an_error_not_a_stack_overflow() {
+    let nested = |n: usize| {
+        svg(&format!(
+            "{}<rect x=\"1\" y=\"1\" width=\"10\" height=\"10\"/>{}",
+            "<g>".repeat(n),
+            "</g>".repeat(n)
+        ))
+    };
+    // Within the limit: read as usual.
+    assert!((only_ok(&nested(250)).area - 100.0).abs() < 1e-9); // 1 user unit = 1 mm here
+                                                                // Far beyond it (this used to overflow the stack): one error row naming the limit.
+    for n in [300, 100_000] {
+        let rows = measure(&nested(n));
+        assert_eq!(rows.len(), 1, "{rows:#?}");
+        let err = rows[0].result.as_ref().expect_err("too deep");
+        assert!(err.contains("nested more than 256 deep"), "{err}");
+    }
+}

@@ -74,8 +74,12 @@ pub fn run_batch_with<T: Send>(
     jobs: Option<usize>,
     per_file: impl Fn(&Path) -> (Vec<Row>, T) + Sync,
 ) -> anyhow::Result<BatchOutput<T>> {
+    // Stacks of 16 MiB (the default is 2 MiB): the readers' recursion is bounded (blocks
+    // 64 deep, SVG elements 256 deep), and this leaves room for any drawing within those
+    // bounds in a debug build too. Only the pages touched take memory.
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(jobs.unwrap_or(0))
+        .stack_size(16 << 20)
         .build()
         .context("cannot start worker threads")?;
     let bar = ProgressBar::new(files.len() as u64);

@@ -69,6 +69,11 @@ pub const MM_PER_PX: f64 = 25.4 / 96.0;
 /// Deepest nesting of `<use>` followed (deeper ones, and cycles, are skipped with a note).
 const MAX_USE_DEPTH: usize = 32;
 
+/// Deepest nesting of elements read (`<g>` in `<g>`…, `<use>` targets included): the reader
+/// walks the tree recursively, and a deeper file is an error, not a stack overflow. Drawings
+/// from CAD and illustration programs nest a few levels, rarely more than twenty.
+const MAX_ELEMENT_DEPTH: usize = 256;
+
 /// Whether `bytes` look like XML (an SVG file) rather than DXF: the first character after an
 /// optional UTF-8 byte-order mark and white space is `<`. A DXF file starts with a group
 /// code (ASCII) or `AutoCAD Binary DXF`.
@@ -111,6 +116,8 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
         ids: HashMap::new(),
         css: Vec::new(),
         use_stack: Vec::new(),
+        depth: 0,
+        too_deep: None,
     };
     reader.drawing.file.text_encoding = encoding;
     reader.drawing.file.svg = true;
@@ -131,6 +138,14 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
     let style = Style::default();
     let layer = LayerName::from("");
     reader.children(root, &Affine::IDENTITY, &page, &style, &layer, false);
+    if let Some(line) = reader.too_deep {
+        return Err(ImportError::new(
+            Some(Location::Line(line)),
+            ImportErrorKind::MalformedSvg(format!(
+                "elements nested more than {MAX_ELEMENT_DEPTH} deep"
+            )),
+        ));
+    }
     Ok(reader.drawing)
 }
 
@@ -207,6 +222,10 @@ struct Reader<'a, 'input> {
     css: Vec<CssRule>,
     /// `<use>` elements being followed (to stop cycles).
     use_stack: Vec<roxmltree::NodeId>,
+    /// Elements open in the walk, and the first element found deeper than
+    /// [`MAX_ELEMENT_DEPTH`] (its line), which makes the file an error.
+    depth: usize,
+    too_deep: Option<u64>,
 }
 
 /// `name: value; …` pairs of a `style` attribute or a CSS block.
@@ -474,10 +493,19 @@ impl<'a, 'input> Reader<'a, 'input> {
         layer: &LayerName,
         in_use: bool,
     ) {
+        if self.too_deep.is_some() {
+            return;
+        }
+        if self.depth >= MAX_ELEMENT_DEPTH {
+            self.too_deep = Some(self.lines.line(n.range().start));
+            return;
+        }
+        self.depth += 1;
         for c in n.children().filter(Node::is_element) {
             crate::time_limit::check("reading the SVG elements");
             self.element(c, ctm, page, style, layer, in_use);
         }
+        self.depth -= 1;
     }
 
     fn element(
