@@ -8,6 +8,7 @@ use crate::geom::{
 };
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
+use crate::timings::{self, Step};
 
 /// Settings that shape how a drawing is read and measured.
 #[derive(Debug, Clone)]
@@ -144,7 +145,7 @@ pub fn analyze_drawing_with_geometry(bytes: &[u8], settings: &Settings) -> Measu
             CurveTable::default(),
         );
     }
-    let work = || match read_drawing(bytes, settings) {
+    let work = || match timings::time(Step::Parse, || read_drawing(bytes, settings)) {
         Ok(d) => measure_drawing_with_geometry(d, settings),
         Err(e) => MeasuredDrawing::file_row("", e, CurveTable::default()),
     };
@@ -314,15 +315,17 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         default_join_gap(extent, short)
     });
     crate::time_limit::check_now("reading");
-    let chained = chain(drawing.pieces, join_gap);
+    let chained = timings::time(Step::Chain, || chain(drawing.pieces, join_gap));
     crate::time_limit::check_now("chaining loops");
     let mut problems = chained.problems;
     let strays_are_errors = open_paths_are_errors(&drawing.file);
     if strays_are_errors {
         problems.extend(chained.strays.iter().map(LoopProblem::open_path));
     }
-    let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
+    let nested = timings::time(Step::Nest, || {
+        let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
+        nest(loops, join_gap, &drawing.curves.spans, &mut problems)
+    });
     crate::time_limit::check_now("nesting loops");
     let profiles = nested.profiles;
 
@@ -382,18 +385,18 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
     let curve_table = &drawing.curves;
     let measure = |ps: &[&Profile]| -> (SectionProps, Option<String>) {
         crate::time_limit::check_now("measuring a profile");
-        let mut props = section_props(ps);
+        let mut props = timings::time(Step::Integrate, || section_props(ps));
         let mut failed: Vec<String> = Vec::new();
         if settings.plastic {
             crate::time_limit::check_now("the plastic properties");
-            match plastic_props(ps, curve_table, &props) {
+            match timings::time(Step::Plastic, || plastic_props(ps, curve_table, &props)) {
                 Ok(p) => props.plastic = Some(p),
                 Err(e) => failed.push(e),
             }
         }
         if settings.extrusion {
             crate::time_limit::check_now("the extrusion figures");
-            match extrusion_props(ps, curve_table) {
+            match timings::time(Step::Extrusion, || extrusion_props(ps, curve_table)) {
                 Ok(x) => props.extrusion = Some(x),
                 Err(e) => failed.push(e),
             }
@@ -402,7 +405,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
             // The solver leans on two outside crates (spade, faer): a panic there must
             // not cost the row its other columns.
             let solved = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-                torsion_props(ps, &props, t)
+                timings::time(Step::Torsion, || torsion_props(ps, &props, t))
             }))
             .unwrap_or_else(|payload| {
                 // The time limit passes through to the file's row (time_limit::run).

@@ -25,6 +25,7 @@ pub mod section;
 #[cfg(test)]
 mod test_rng;
 pub mod time_limit;
+pub mod timings;
 pub use analyze::{
     analyze_drawing, analyze_drawing_with_geometry, measure_drawing, measure_drawing_with_geometry,
     MeasuredDrawing, Outcome, Settings,

@@ -334,3 +334,32 @@ fn an_interrupted_run_leaves_no_partial_output() {
         assert!(left.is_empty(), "temporary files left: {left:?}");
     }
 }
+
+#[test]
+fn timings_name_every_step_run_and_leave_the_output_alone() {
+    let demo = root().join("fixtures/demo");
+    let demo = demo.to_str().expect("utf-8");
+    let plain = sectio(&["measure", demo, "--layer", "PROFILE", "--all"]);
+    let timed = sectio(&["measure", demo, "--layer", "PROFILE", "--all", "--timings"]);
+    assert_eq!(timed.status.code(), Some(0), "{timed:?}");
+    assert_eq!(stdout(&timed), stdout(&plain));
+    let err = String::from_utf8_lossy(&timed.stderr);
+    for step in [
+        "read files",
+        "parse",
+        "chain",
+        "crossings and nesting",
+        "integrate",
+        "plastic tier",
+        "extrusion tier",
+        "torsion tier",
+        "format and write output",
+        "all steps",
+        "slowest files:",
+        "05_hv-731_heat-sink.dxf",
+    ] {
+        assert!(err.contains(step), "{step:?} in {err}");
+    }
+    // Without --timings, no table.
+    assert!(!String::from_utf8_lossy(&plain.stderr).contains("all steps"));
+}

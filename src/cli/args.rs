@@ -416,6 +416,10 @@ pub struct MeasureArgs {
     #[command(flatten)]
     pub limits: LimitArgs,
 
+    /// Print where the run's time went on standard error: each step (read files, parse, chain, crossings and nesting, integrate, each tier, output) summed over the worker threads, and the slowest files.
+    #[arg(long)]
+    pub timings: bool,
+
     /// Measure all profiles of a file as one section (a built-up or multi-part section).
     #[arg(long)]
     pub merge: bool,

@@ -190,6 +190,7 @@ fn with_file_bytes<R>(path: &Path, limit: u64, f: impl FnOnce(&[u8]) -> R) -> st
     let cap = usize::try_from(limit)
         .unwrap_or(usize::MAX)
         .saturating_add(1);
+    let started = crate::timings::enabled().then(std::time::Instant::now);
     let read = std::fs::File::open(path).and_then(|mut file| {
         let mut filled = 0;
         loop {
@@ -207,7 +208,13 @@ fn with_file_bytes<R>(path: &Path, limit: u64, f: impl FnOnce(&[u8]) -> R) -> st
             }
         }
     });
+    if let Some(t) = started {
+        crate::timings::add(crate::timings::Step::ReadFile, t.elapsed());
+    }
     let out = read.map(|filled| f(&buf[..filled]));
+    if let Some(t) = started {
+        crate::timings::file_took(path, t.elapsed());
+    }
     if buf.len() <= KEEP_BUFFER {
         READ_BUFFER.with(|c| *c.borrow_mut() = buf);
     }

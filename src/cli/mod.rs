@@ -22,6 +22,7 @@ use crate::report::table::utc_date_time;
 use crate::report::{
     csv_header, csv_records, measure_table, write_jsonl, xlsx_bytes, CsvFormat, RunRecord, Tiers,
 };
+use crate::timings::{self, Step};
 use args::{Cli, Command, FormatArg, LimitArgs, MeasureArgs, ReadArgs, UnitArg};
 
 /// Exit status: every profile measured.
@@ -267,6 +268,9 @@ fn measure_run_record(args: &MeasureArgs, format: &CsvFormat, files: &[PathBuf])
 
 fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     let started = Instant::now();
+    if args.timings {
+        timings::enable();
+    }
     let csv_flag = if args.delimiter.is_some() {
         Some("--delimiter")
     } else {
@@ -312,7 +316,8 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
     let csv = output_format == FormatArg::Csv;
     let batch = match &args.report {
         None => batch::run_batch(&files, &settings, args.jobs, |rows| {
-            (csv.then(|| csv_records(rows, &format)), None)
+            let records = timings::time(Step::Output, || csv.then(|| csv_records(rows, &format)));
+            (records, None)
         })?,
         Some(_) => {
             let numbers: std::collections::HashMap<&Path, usize> = files
@@ -323,14 +328,18 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             batch::run_batch_with(&files, args.jobs, |path| {
                 let (rows, geometry) = batch::measure_file_with_geometry(path, &settings);
                 let file_no = numbers.get(path).copied().unwrap_or(0);
-                let fragment =
-                    html::file_fragment(file_no, &rows, geometry.as_ref(), &format, None);
-                let records = csv.then(|| csv_records(&rows, &format));
+                let (fragment, records) = timings::time(Step::Output, || {
+                    (
+                        html::file_fragment(file_no, &rows, geometry.as_ref(), &format, None),
+                        csv.then(|| csv_records(&rows, &format)),
+                    )
+                });
                 (rows, (records, Some(fragment)))
             })?
         }
     };
     let rows = batch.rows;
+    let writing = Instant::now();
     let xlsx = match output_format {
         FormatArg::Xlsx => {
             let run = measure_run_record(&args, &format, &files);
@@ -375,6 +384,17 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             html::write_page(w, &run, &format, &fragments, None)
         })
         .with_context(|| format!("cannot write {}", path.display()))?;
+    }
+    timings::add(Step::Output, writing.elapsed());
+    if args.timings {
+        eprint!(
+            "{}",
+            timings::render(
+                started.elapsed(),
+                args.jobs.unwrap_or_else(rayon::current_num_threads),
+                files.len()
+            )
+        );
     }
     let errors = rows.iter().filter(|r| r.outcome.result.is_err()).count();
     let failed_files = {
