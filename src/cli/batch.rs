@@ -113,6 +113,115 @@ pub fn run_batch_with<T: Send>(
     Ok(out)
 }
 
+/// Files in flight or finished but not yet handed on, per worker thread, in
+/// [`stream_batch`]: enough to keep every thread busy past a slow file, few enough that
+/// memory does not grow with the number of files.
+pub const WINDOW_PER_THREAD: usize = 64;
+
+/// Run `per_file` on every file on `jobs` threads (default: one per core) and hand each
+/// result to `sink` on the calling thread, in file order, as soon as it and every file
+/// before it are done. At most [`WINDOW_PER_THREAD`] × threads files are in flight or
+/// waiting at any time, so memory does not grow with the number of files. An error from
+/// `sink` stops the run (the threads finish the file they are on) and is returned.
+pub fn stream_batch<T: Send>(
+    files: &[PathBuf],
+    jobs: Option<usize>,
+    per_file: impl Fn(&Path) -> T + Sync,
+    mut sink: impl FnMut(T) -> std::io::Result<()>,
+) -> anyhow::Result<()> {
+    use std::collections::BTreeMap;
+    use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+    use std::sync::{Condvar, Mutex};
+
+    let threads = jobs
+        .filter(|&j| j > 0)
+        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()))
+        .min(files.len().max(1));
+    let window = WINDOW_PER_THREAD * threads;
+    let bar = ProgressBar::new(files.len() as u64);
+    bar.set_style(
+        ProgressStyle::with_template("{bar:40} {pos}/{len} files {elapsed_precise}")
+            .unwrap_or_else(|_| ProgressStyle::default_bar()),
+    );
+    // The next file to claim; the next file to hand on and the finished ones waiting.
+    let claim = AtomicUsize::new(0);
+    let stop = AtomicBool::new(false);
+    let state: Mutex<(usize, BTreeMap<usize, T>)> = Mutex::new((0, BTreeMap::new()));
+    let changed = Condvar::new();
+    let lock = || state.lock().unwrap_or_else(|p| p.into_inner());
+    let previous_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(|_| {}));
+    let result = std::thread::scope(|scope| -> anyhow::Result<()> {
+        for _ in 0..threads {
+            let (claim, stop, state_changed, per_file, bar) =
+                (&claim, &stop, &changed, &per_file, &bar);
+            let lock = &lock;
+            std::thread::Builder::new()
+                .name("sectio-worker".into())
+                .stack_size(16 << 20) // see run_batch_with
+                .spawn_scoped(scope, move || loop {
+                    let i = claim.fetch_add(1, Ordering::Relaxed);
+                    if i >= files.len() || stop.load(Ordering::Relaxed) {
+                        return;
+                    }
+                    // Wait until the file is within the window of the next one handed on.
+                    {
+                        let mut st = lock();
+                        while i >= st.0 + window && !stop.load(Ordering::Relaxed) {
+                            st = state_changed.wait(st).unwrap_or_else(|p| p.into_inner());
+                        }
+                    }
+                    if stop.load(Ordering::Relaxed) {
+                        return;
+                    }
+                    // `per_file` catches a file's panics itself; one escaping it (a bug in
+                    // rendering) stops the run instead of leaving the sink waiting.
+                    match catch_unwind(AssertUnwindSafe(|| per_file(&files[i]))) {
+                        Ok(out) => {
+                            bar.inc(1);
+                            lock().1.insert(i, out);
+                        }
+                        Err(_) => {
+                            // Under the lock, so that no waiting thread misses it.
+                            let _held = lock();
+                            stop.store(true, Ordering::Relaxed);
+                        }
+                    }
+                    state_changed.notify_all();
+                })
+                .context("cannot start worker threads")?;
+        }
+        // Hand results on in order, on this thread.
+        let mut st = lock();
+        while st.0 < files.len() {
+            let next = st.0;
+            match st.1.remove(&next) {
+                Some(out) => {
+                    st.0 += 1;
+                    drop(st);
+                    changed.notify_all();
+                    if let Err(e) = sink(out) {
+                        let _held = lock();
+                        stop.store(true, Ordering::Relaxed);
+                        drop(_held);
+                        changed.notify_all();
+                        return Err(e.into());
+                    }
+                    st = lock();
+                }
+                None if stop.load(Ordering::Relaxed) => {
+                    anyhow::bail!("internal error: a worker thread stopped (this is a bug in sectio: please report it)")
+                }
+                None => st = changed.wait(st).unwrap_or_else(|p| p.into_inner()),
+            }
+        }
+        Ok(())
+    });
+    std::panic::set_hook(previous_hook);
+    bar.finish_and_clear();
+    result
+}
+
 /// All rows of one file; never panics.
 pub fn measure_file(path: &Path, settings: &Settings) -> Vec<Row> {
     let analyzed = with_file_bytes(path, settings.max_file_bytes, |bytes| {
@@ -246,6 +355,96 @@ fn file_error(msg: String) -> Outcome {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn names(n: usize) -> Vec<PathBuf> {
+        (0..n).map(|k| PathBuf::from(format!("{k:05}"))).collect()
+    }
+
+    #[test]
+    fn streamed_results_come_in_file_order_whatever_the_threads_finish_first() {
+        let files = names(2000);
+        for jobs in [1, 2, 7] {
+            let mut seen = Vec::new();
+            stream_batch(
+                &files,
+                Some(jobs),
+                |p| {
+                    let k: usize = p.to_string_lossy().parse().expect("number");
+                    // Uneven work, so that threads overtake each other.
+                    if k.is_multiple_of(97) {
+                        std::thread::sleep(std::time::Duration::from_millis(2));
+                    }
+                    k
+                },
+                |k| {
+                    seen.push(k);
+                    Ok(())
+                },
+            )
+            .expect("run");
+            assert_eq!(seen, (0..2000).collect::<Vec<_>>(), "-j {jobs}");
+        }
+        // No files: nothing handed on, no hang.
+        stream_batch(&[], None, |_| 0, |_| panic!("nothing to hand on")).expect("empty run");
+    }
+
+    #[test]
+    fn files_in_flight_stay_within_the_window() {
+        use std::sync::atomic::{AtomicUsize, Ordering};
+        let files = names(3000);
+        let started = AtomicUsize::new(0);
+        let mut handed = 0usize;
+        let mut widest = 0usize;
+        stream_batch(
+            &files,
+            Some(2),
+            |_| started.fetch_add(1, Ordering::SeqCst) + 1,
+            |_| {
+                // Files started but not yet handed on (this one included).
+                widest = widest.max(started.load(Ordering::SeqCst) - handed);
+                handed += 1;
+                std::thread::sleep(std::time::Duration::from_micros(50));
+                Ok(())
+            },
+        )
+        .expect("run");
+        assert_eq!(handed, 3000);
+        assert!(widest <= 2 * WINDOW_PER_THREAD + 2, "{widest} in flight");
+    }
+
+    #[test]
+    fn a_sink_error_or_an_escaped_panic_ends_the_run_without_hanging() {
+        let files = names(500);
+        let mut n = 0;
+        let err = stream_batch(
+            &files,
+            Some(2),
+            |_| (),
+            |()| {
+                n += 1;
+                if n == 10 {
+                    Err(std::io::Error::other("disk full"))
+                } else {
+                    Ok(())
+                }
+            },
+        )
+        .expect_err("the sink's error");
+        assert!(err.to_string().contains("disk full"));
+        assert_eq!(n, 10, "nothing handed on after the error");
+        let err = stream_batch(
+            &files,
+            Some(2),
+            |p| {
+                if p.ends_with("00100") {
+                    panic!("bug");
+                }
+            },
+            |()| Ok(()),
+        )
+        .expect_err("a worker stopped");
+        assert!(err.to_string().contains("worker thread stopped"), "{err}");
+    }
 
     #[test]
     fn folders_are_searched_recursively_for_dxf_in_any_case_and_sorted() {

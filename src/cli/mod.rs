@@ -309,16 +309,53 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         density_kg_m3: density,
         tiers,
     };
-    // CSV records are formatted on the worker threads; the other formats are built from
-    // all rows at the end. The report's parts too are built on the worker threads, from
-    // each file's geometry, which is then dropped; without --report the geometry is never
-    // kept.
+    // CSV and JSON Lines without a report stream: each file's lines are formatted on its
+    // worker thread and written in file order as soon as they and those before them are
+    // done, so memory does not grow with the number of files. A workbook or a report needs
+    // every row at the end: then the rows (and the report's parts, built on the worker
+    // threads from each file's geometry, which is then dropped) are collected.
     let csv = output_format == FormatArg::Csv;
+    let mut tally = Tally::default();
+    if args.report.is_none() && output_format != FormatArg::Xlsx {
+        let per_file = |path: &Path| {
+            let rows = batch::measure_file(path, &settings);
+            let lines = timings::time(Step::Output, || {
+                if csv {
+                    csv_records(&rows, &format)
+                } else {
+                    let mut v = Vec::new();
+                    write_jsonl(&mut v, &measure_table(&rows, &format)).map(|_| v)
+                }
+            });
+            (Tally::of(&rows), lines)
+        };
+        let write = |w: &mut dyn Write, tally: &mut Tally| -> std::io::Result<()> {
+            if csv {
+                w.write_all(&csv_header(&format)?)?;
+            }
+            batch::stream_batch(&files, args.jobs, per_file, |(t, lines)| {
+                tally.add(t);
+                let start = Instant::now();
+                let written = w.write_all(&lines?);
+                timings::add(Step::Output, start.elapsed());
+                written
+            })
+            .map_err(std::io::Error::other)?;
+            w.flush()
+        };
+        match &args.output {
+            Some(path) => write_atomically(path, |w| write(w, &mut tally))
+                .with_context(|| format!("cannot write {}", path.display()))?,
+            None => {
+                let stdout = std::io::stdout();
+                let mut lock = stdout.lock();
+                write(&mut lock, &mut tally).context("cannot write to standard output")?;
+            }
+        }
+        return Ok(finish_measure(&args, &tally, files.len(), started));
+    }
     let batch = match &args.report {
-        None => batch::run_batch(&files, &settings, args.jobs, |rows| {
-            let records = timings::time(Step::Output, || csv.then(|| csv_records(rows, &format)));
-            (records, None)
-        })?,
+        None => batch::run_batch(&files, &settings, args.jobs, |_| (None, None))?,
         Some(_) => {
             let numbers: std::collections::HashMap<&Path, usize> = files
                 .iter()
@@ -386,43 +423,72 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
         .with_context(|| format!("cannot write {}", path.display()))?;
     }
     timings::add(Step::Output, writing.elapsed());
+    let mut start = 0;
+    while start < rows.len() {
+        let file = &rows[start].file;
+        let end = start + rows[start..].iter().take_while(|r| &r.file == file).count();
+        tally.add(Tally::of(&rows[start..end]));
+        start = end;
+    }
+    Ok(finish_measure(&args, &tally, files.len(), started))
+}
+
+/// What the closing summary counts: rows, error rows, and files with an error row.
+#[derive(Debug, Clone, Copy, Default)]
+struct Tally {
+    rows: usize,
+    errors: usize,
+    failed_files: usize,
+}
+
+impl Tally {
+    /// The tally of one file's rows.
+    fn of(rows: &[crate::report::Row]) -> Tally {
+        let errors = rows.iter().filter(|r| r.outcome.result.is_err()).count();
+        Tally {
+            rows: rows.len(),
+            errors,
+            failed_files: usize::from(errors > 0),
+        }
+    }
+
+    fn add(&mut self, t: Tally) {
+        self.rows += t.rows;
+        self.errors += t.errors;
+        self.failed_files += t.failed_files;
+    }
+}
+
+/// The timings table (with `--timings`), the closing summary on standard error, and the
+/// exit status.
+fn finish_measure(args: &MeasureArgs, tally: &Tally, files: usize, started: Instant) -> i32 {
     if args.timings {
         eprint!(
             "{}",
             timings::render(
                 started.elapsed(),
                 args.jobs.unwrap_or_else(rayon::current_num_threads),
-                files.len()
+                files
             )
         );
     }
-    let errors = rows.iter().filter(|r| r.outcome.result.is_err()).count();
-    let failed_files = {
-        let mut f: Vec<&str> = rows
-            .iter()
-            .filter(|r| r.outcome.result.is_err())
-            .map(|r| r.file.as_str())
-            .collect();
-        f.dedup();
-        f.len()
-    };
     eprintln!(
         "sectio: {} files, {} profiles measured, {} errors{}, {:.2} s",
-        files.len(),
-        rows.len() - errors,
-        errors,
-        if errors > 0 {
-            format!(" in {failed_files} files")
+        files,
+        tally.rows - tally.errors,
+        tally.errors,
+        if tally.errors > 0 {
+            format!(" in {} files", tally.failed_files)
         } else {
             String::new()
         },
         started.elapsed().as_secs_f64()
     );
-    Ok(if errors > 0 {
+    if tally.errors > 0 {
         EXIT_SOME_FAILED
     } else {
         EXIT_OK
-    })
+    }
 }
 
 /// Write to a temporary file beside `path`, then rename it over `path`: readers never see
