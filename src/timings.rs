@@ -153,13 +153,13 @@ pub fn render(wall: Duration, threads: usize, files: usize) -> String {
         };
         let _ = writeln!(
             s,
-            "  {:<28} {:>10.3} s {:>5.1} %",
+            "  {:<28} {:>10.6} s {:>5.1} %",
             step.name(),
             d.as_secs_f64(),
             share
         );
     }
-    let _ = writeln!(s, "  {:<28} {:>10.3} s", "all steps", sum.as_secs_f64());
+    let _ = writeln!(s, "  {:<28} {:>10.6} s", "all steps", sum.as_secs_f64());
     let slow = slowest();
     if !slow.is_empty() {
         let _ = writeln!(s, "slowest files:");
