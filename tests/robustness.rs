@@ -1,0 +1,53 @@
+//! Inputs the fuzzers found (DEVELOPERS.md, "Robustness: fuzzing"), kept in `fixtures/fuzz/`
+//! as small drawings: each runs through `analyze_drawing` with the tier that failed and must
+//! come back with rows, saying why a figure is missing where it cannot be computed. Any
+//! drawing dropped into `fixtures/fuzz/` is also run through every tier.
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::path::{Path, PathBuf};
+
+use sectio::analyze::{analyze_drawing, Outcome, Settings};
+use sectio::fem::TorsionSettings;
+
+fn fixture(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("fixtures/fuzz")
+        .join(name)
+}
+
+/// The rows of a drawing, failing the test (not aborting it) on a panic.
+fn rows(path: &Path, settings: &Settings) -> Vec<Outcome> {
+    let bytes = std::fs::read(path).unwrap();
+    catch_unwind(AssertUnwindSafe(|| analyze_drawing(&bytes, settings)))
+        .unwrap_or_else(|_| panic!("{} panicked", path.display()))
+}
+
+/// The only row, which must be measured.
+fn only_ok(rows: &[Outcome]) -> &Outcome {
+    assert_eq!(rows.len(), 1, "{rows:#?}");
+    assert!(rows[0].result.is_ok(), "{rows:#?}");
+    &rows[0]
+}
+
+/// Fuzz target `pipeline` (a spline outline 17.5 mm long and 1e-160 mm high; here a strip
+/// 1 km long and 10 nm thick): the torsion mesh's target size follows the area (0.6 mm for
+/// the strip), so the boundary alone needed millions of vertices, far over any cap, and
+/// building them took minutes; the solver now says so at once.
+#[test]
+fn thin_strip_torsion_stops_at_the_cap() {
+    let settings = Settings {
+        torsion: Some(TorsionSettings::default()),
+        ..Settings::default()
+    };
+    let rows = rows(&fixture("thin_strip.dxf"), &settings);
+    let row = only_ok(&rows);
+    assert!(row.result.as_ref().unwrap().torsion.is_none());
+    assert!(
+        row.message.contains(
+            "torsion not computed: cannot mesh the section: its boundary alone needs 2000002 \
+             vertices at the target size, too many for the cap of 400000 nodes"
+        ),
+        "{}",
+        row.message
+    );
+}
