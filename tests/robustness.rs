@@ -29,6 +29,31 @@ fn only_ok(rows: &[Outcome]) -> &Outcome {
     &rows[0]
 }
 
+fn extrusion() -> Settings {
+    Settings {
+        extrusion: true,
+        ..Settings::default()
+    }
+}
+
+/// Fuzz target `pipeline` (a triangle 54 mm long and 1e-300 mm high; here a strip 1 km
+/// long and 10 nm thick): the largest inscribed circle's search started with square cells
+/// of the box's short side, one per 10 nm of the length (10¹¹ cells, more than memory
+/// holds); it now starts with about a thousand at most.
+#[test]
+fn thin_strip_gets_its_extrusion_figures() {
+    let rows = rows(&fixture("thin_strip.dxf"), &extrusion());
+    let x = only_ok(&rows)
+        .result
+        .as_ref()
+        .unwrap()
+        .extrusion
+        .expect("extrusion figures");
+    // The strip is 1e-5 mm thick: its thickest section and thinnest wall (hand calculation).
+    assert!((x.thickest_section - 1e-5).abs() <= 1e-5 * 1e-6, "{x:?}");
+    assert!((x.thinnest_wall - 1e-5).abs() <= 1e-5 * 1e-6, "{x:?}");
+}
+
 /// Fuzz target `pipeline` (a spline outline 17.5 mm long and 1e-160 mm high; here a strip
 /// 1 km long and 10 nm thick): the torsion mesh's target size follows the area (0.6 mm for
 /// the strip), so the boundary alone needed millions of vertices, far over any cap, and
@@ -50,4 +75,28 @@ fn thin_strip_torsion_stops_at_the_cap() {
         "{}",
         row.message
     );
+}
+
+/// Every drawing in `fixtures/fuzz/`, with every tier (the torsion mesh kept small), gives
+/// rows without a panic.
+#[test]
+fn every_fuzz_fixture_runs_through_every_tier() {
+    let all = Settings {
+        plastic: true,
+        extrusion: true,
+        torsion: Some(TorsionSettings {
+            accuracy: 1e-2,
+            max_nodes: 20_000,
+        }),
+        ..Settings::default()
+    };
+    let mut n = 0;
+    for entry in std::fs::read_dir(fixture("")).unwrap() {
+        let path = entry.unwrap().path();
+        for settings in [&Settings::default(), &all] {
+            assert!(!rows(&path, settings).is_empty(), "{}", path.display());
+        }
+        n += 1;
+    }
+    assert!(n >= 1, "{n} drawings in fixtures/fuzz");
 }

@@ -957,11 +957,19 @@ fn largest_inscribed_circle(
             potential: d + half * SQRT_2,
         }
     };
-    let side = bbox.width().min(bbox.height());
+    let (short, long) = (
+        bbox.width().min(bbox.height()),
+        bbox.width().max(bbox.height()),
+    );
     let mut best = cell(bbox.center(), 0.0, f64::NEG_INFINITY);
-    if side.is_nan() || side <= 0.0 {
+    if short.is_nan() || short <= 0.0 {
         return (best.d.max(0.0), best.center);
     }
+    // Square cells of the box's short side, but about INSCRIBED_CELLS of them at most: a
+    // sliver (a triangle 50 mm long and 1e-300 mm high) would otherwise start with more
+    // cells than memory holds. Larger cells are as sound (a cell's potential bounds every
+    // point of it), only slower to split.
+    let side = short.max(long / INSCRIBED_CELLS as f64);
     let precision = 1e-9 * size;
     let mut heap = BinaryHeap::new();
     let (nx, ny) = (
