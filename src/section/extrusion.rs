@@ -114,6 +114,16 @@ pub fn extrusion_props(
     if profiles.is_empty() || !(size.is_finite() && size > 0.0) {
         return Err("extrusion figures: the section has no extent".into());
     }
+    // Distances are roots of sums of squares: beyond about 1e154 mm the squares overflow,
+    // every distance comes out infinite and the searches never settle (each nearest-segment
+    // query would walk the whole grid). A margin of 4 covers points of the search cells
+    // and rays beyond the section's box.
+    if !(4.0 * size).powi(2).is_finite() {
+        return Err(format!(
+            "extrusion figures: the section is too large ({size:.3e} mm) for distances in \
+             double precision"
+        ));
+    }
     // Work about the box centre: full precision far from the drawing's origin.
     let reference = bbox.center();
     let shift =
