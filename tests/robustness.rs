@@ -95,6 +95,27 @@ fn astronomically_large_section_declines_extrusion_figures() {
     );
 }
 
+/// Fuzz target `pipeline` (a closed spline reaching 1e153 mm): the derivative's length
+/// overflows, so each adaptive integral of the curve's pieces (lengths, moments) split its
+/// interval until its budget ran out, 3.8 s for this one spline in a release build; a
+/// non-finite half is now taken at once (unit test `adaptive_takes_non_finite_halves_at_once`).
+#[test]
+fn astronomically_large_spline_is_measured() {
+    let settings = Settings {
+        plastic: true,
+        ..Settings::default()
+    };
+    let rows = rows(&fixture("huge_spline.dxf"), &settings);
+    let props = only_ok(&rows).result.as_ref().unwrap();
+    // The area is finite (6.2e307 mm²), its second moments are not.
+    assert!(
+        props.area.is_finite() && props.area > 6e307,
+        "{}",
+        props.area
+    );
+    assert!(!props.ixx.is_finite());
+}
+
 /// Every drawing in `fixtures/fuzz/`, with every tier (the torsion mesh kept small), gives
 /// rows without a panic.
 #[test]
