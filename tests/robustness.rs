@@ -116,6 +116,29 @@ fn astronomically_large_spline_is_measured() {
     assert!(!props.ixx.is_finite());
 }
 
+/// Fuzz target `pipeline` (an ellipse at x = −1.7e284 mm): its 10¹⁰ mm axis lies below the
+/// precision of its position, so it comes out as a flat column of about 100 000 chords; the
+/// crossing check's grid spread over the whole drawing and put them all in one cell, and
+/// compared them pair by pair (103 s in a release build). A crowded cell now gets a grid of
+/// its own (unit test `a_crowded_cell_is_searched_with_a_grid_of_its_own` counts the pairs).
+#[test]
+fn far_flat_ellipse_beside_a_circle() {
+    let rows = rows(&fixture("far_flat_ellipse.dxf"), &Settings::default());
+    assert_eq!(rows.len(), 2, "{rows:#?}");
+    let e = rows[0].result.as_ref().unwrap_err();
+    assert!(
+        e.starts_with("self-intersecting loop (starting with ELLIPSE"),
+        "{e}"
+    );
+    // The circle r = 10: A = π·r² (from memory; any table of plane areas).
+    let circle = rows[1].result.as_ref().unwrap();
+    assert!(
+        (circle.area - 100.0 * std::f64::consts::PI).abs() < 1e-9,
+        "{}",
+        circle.area
+    );
+}
+
 /// Every drawing in `fixtures/fuzz/`, with every tier (the torsion mesh kept small), gives
 /// rows without a panic.
 #[test]
