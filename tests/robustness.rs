@@ -139,6 +139,22 @@ fn far_flat_ellipse_beside_a_circle() {
     );
 }
 
+/// Fuzz target `svg_reader`: a file that is not UTF-8 whose XML declaration has a byte
+/// that is not ASCII (0xF2) where the quote of `encoding=` belongs. The reader took the
+/// first character after `encoding=` for the quote and sliced one byte past it, inside the
+/// replacement character: a panic. Only `"` and `'` open the value now (XML 1.0, §4.3.3);
+/// the file is read as Windows-1252, and the XML parser rejects the declaration.
+#[test]
+fn svg_encoding_without_a_quote_is_a_malformed_file() {
+    let rows = rows(
+        &fixture("svg_encoding_quote_not_ascii.svg"),
+        &Settings::default(),
+    );
+    assert_eq!(rows.len(), 1, "{rows:#?}");
+    let e = rows[0].result.as_ref().unwrap_err();
+    assert!(e.starts_with("malformed SVG: expected a quote"), "{e}");
+}
+
 /// Every drawing in `fixtures/fuzz/`, with every tier (the torsion mesh kept small), gives
 /// rows without a panic.
 #[test]
