@@ -15,11 +15,21 @@ fn fixture(name: &str) -> PathBuf {
         .join(name)
 }
 
-/// The rows of a drawing, failing the test (not aborting it) on a panic.
+/// The rows of a drawing, failing the test (not aborting it) on a panic, also on one that
+/// the library caught (the torsion solver's guard turns it into a message).
 fn rows(path: &Path, settings: &Settings) -> Vec<Outcome> {
     let bytes = std::fs::read(path).unwrap();
-    catch_unwind(AssertUnwindSafe(|| analyze_drawing(&bytes, settings)))
-        .unwrap_or_else(|_| panic!("{} panicked", path.display()))
+    let rows = catch_unwind(AssertUnwindSafe(|| analyze_drawing(&bytes, settings)))
+        .unwrap_or_else(|_| panic!("{} panicked", path.display()));
+    for r in &rows {
+        let text = format!("{:?} {}", r.result.as_ref().err(), r.message);
+        assert!(
+            !text.contains("internal error"),
+            "{}: {text}",
+            path.display()
+        );
+    }
+    rows
 }
 
 /// The only row, which must be measured.
@@ -153,6 +163,21 @@ fn svg_encoding_without_a_quote_is_a_malformed_file() {
     assert_eq!(rows.len(), 1, "{rows:#?}");
     let e = rows[0].result.as_ref().unwrap_err();
     assert!(e.starts_with("malformed SVG: expected a quote"), "{e}");
+}
+
+/// Fuzz target `pipeline`: two circles, one 7.5e46 mm away, measured as one section with
+/// torsion. The mesh merges vertices through a hash grid of cells 1e-12 of the section's
+/// size; the far circle's cell number saturated at i64::MAX and its neighbour's overflowed
+/// (a panic with overflow checks, which the torsion guard turned into "internal error").
+#[test]
+fn far_circle_merged_into_one_section_with_torsion() {
+    let settings = Settings {
+        merge: true,
+        torsion: Some(TorsionSettings::default()),
+        ..Settings::default()
+    };
+    let rows = rows(&fixture("far_circle_merged.dxf"), &settings);
+    assert_eq!(rows.len(), 1, "{rows:#?}");
 }
 
 /// Every drawing in `fixtures/fuzz/`, with every tier (the torsion mesh kept small), gives

@@ -446,7 +446,9 @@ impl Mesh {
                     );
                     for dx in -1..=1 {
                         for dy in -1..=1 {
-                            if let Some(near) = index.get(&(cx + dx, cy + dy)) {
+                            if let Some(near) =
+                                index.get(&(cx.wrapping_add(dx), cy.wrapping_add(dy)))
+                            {
                                 for &k in near {
                                     let p = vertices[k];
                                     if Point::new(p.x, p.y).dist(v.at) <= merge {
