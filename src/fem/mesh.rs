@@ -130,6 +130,33 @@ struct BoundaryVertex {
     arc: u32,
 }
 
+/// How many boundary pieces a segment is split into for target size `h`: lines and curve
+/// chords no longer than `h`, arcs no longer than `h` and turning at most [`MAX_ARC_STEP`]
+/// (at most 10⁶ either way).
+fn boundary_pieces(s: &Segment, h: f64) -> usize {
+    let n = match s {
+        Segment::Arc(a) => (a.sweep.abs() / MAX_ARC_STEP)
+            .ceil()
+            .max((a.length() / h).ceil()),
+        Segment::Line { a, b } | Segment::Curve(crate::geom::CurvePiece { a, b, .. }) => {
+            (a.dist(*b) / h).ceil()
+        }
+    };
+    n.clamp(1.0, 1e6) as usize
+}
+
+/// How many vertices the profiles' boundary polygons get for target size `h` before any
+/// are merged ([`Mesh::build`] starts from them), counted without building them: a sliver's
+/// boundary at its own target size can need millions.
+pub fn boundary_vertex_count(profiles: &[&Profile], h: f64) -> usize {
+    profiles
+        .iter()
+        .flat_map(|p| std::iter::once(&p.outer).chain(&p.holes))
+        .flat_map(|lp| &lp.segments)
+        .map(|s| boundary_pieces(s, h))
+        .sum()
+}
+
 /// Polygons of the profiles' loops, moved by `-origin`, with arcs recorded in `arcs`.
 fn boundary_polygons(
     profiles: &[&Profile],
@@ -158,9 +185,7 @@ fn boundary_polygons(
                     Segment::Arc(a) => {
                         let id = arcs.len() as u32;
                         arcs.push((a.center - origin, a.radius));
-                        let n = ((a.sweep.abs() / MAX_ARC_STEP).ceil())
-                            .max((a.length() / h).ceil())
-                            .clamp(1.0, 1e6) as usize;
+                        let n = boundary_pieces(s, h);
                         for k in 0..n {
                             let at = a.point_at(k as f64 / n as f64) - origin;
                             push(BoundaryVertex { at, arc: id }, &mut poly);
@@ -172,7 +197,7 @@ fn boundary_polygons(
                             Segment::Curve(c) => (c.a, c.b),
                             Segment::Arc(_) => unreachable!("arcs are handled above"),
                         };
-                        let n = (a.dist(b) / h).ceil().clamp(1.0, 1e6) as usize;
+                        let n = boundary_pieces(s, h);
                         for k in 0..n {
                             let at = a + (b - a) * (k as f64 / n as f64) - origin;
                             push(BoundaryVertex { at, arc: NO_ARC }, &mut poly);
@@ -421,7 +446,9 @@ impl Mesh {
                     );
                     for dx in -1..=1 {
                         for dy in -1..=1 {
-                            if let Some(near) = index.get(&(cx + dx, cy + dy)) {
+                            if let Some(near) =
+                                index.get(&(cx.wrapping_add(dx), cy.wrapping_add(dy)))
+                            {
                                 for &k in near {
                                     let p = vertices[k];
                                     if Point::new(p.x, p.y).dist(v.at) <= merge {

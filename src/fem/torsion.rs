@@ -47,7 +47,7 @@
 //! With quadratic elements J converges like h⁴ on smooth sections, like h^(4/3) near a
 //! sharp re-entrant corner (a fillet ends that once the mesh resolves it).
 
-use super::mesh::{shape, shape_derivatives, Mesh, MeshError, GAUSS};
+use super::mesh::{boundary_vertex_count, shape, shape_derivatives, Mesh, MeshError, GAUSS};
 use super::multigrid::{Csr, Hierarchy};
 use crate::geom::curve_pieces::FLATTEN_REL;
 use crate::geom::symmetry::mirror_symmetric;
@@ -438,6 +438,19 @@ pub fn torsion_props(
     }
     // A first level of V vertices has about 4·V nodes (corners and edge middles), and the
     // second level four times as many: both must fit under the cap.
+    // Its boundary alone gives at least two nodes per boundary vertex (the vertex and the
+    // middle of the edge from it), so with more than an eighth of the cap in boundary
+    // vertices there is no room for a second level: say so before building a mesh that
+    // would be thrown away (a sliver 1e-160 mm thin needs millions at its target size).
+    let boundary = boundary_vertex_count(profiles, h);
+    if boundary > settings.max_nodes / 8 {
+        return Err(format!(
+            "cannot mesh the section: its boundary alone needs {boundary} vertices at the target \
+             size, too many for the cap of {} nodes (a sliver or a very fine boundary; \
+             --torsion-max-nodes raises the cap)",
+            settings.max_nodes
+        ));
+    }
     let mesh = Mesh::build(profiles, centroid, h, settings.max_nodes / 16)
         .map_err(|e: MeshError| format!("cannot mesh the section: {e}"))?;
     let tables = Tables::new();

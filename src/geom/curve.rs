@@ -1092,7 +1092,9 @@ fn gauss<const N: usize>(
 /// `tol` in every component (or within rounding of the values themselves, 1e-15 of their
 /// size, which no further split can improve), else recurses with half the tolerance on each.
 /// At most [`ADAPTIVE_SPLITS`] splits per call in all, so that no integrand, however
-/// awkward, can make it run long: past that the halves are taken as they are.
+/// awkward, can make it run long: past that the halves are taken as they are. Halves that
+/// are not finite (an integrand that overflows, on a curve near 1e154) are taken at once:
+/// splitting cannot mend them, and each of a curve's pieces used up the whole budget.
 fn adaptive<const N: usize>(
     f: &mut impl FnMut(f64) -> [f64; N],
     a: f64,
@@ -1130,7 +1132,8 @@ fn adaptive_within<const N: usize>(
         let rounding = 1e-15 * (left[i].abs() + right[i].abs());
         ok &= (sum[i] - whole[i]).abs() <= tol[i].max(rounding);
     }
-    if ok || depth >= 40 || *budget == 0 || !(mid > a && mid < b) {
+    let finite = sum.iter().all(|v| v.is_finite());
+    if ok || !finite || depth >= 40 || *budget == 0 || !(mid > a && mid < b) {
         return sum;
     }
     *budget -= 1;
@@ -1481,6 +1484,36 @@ mod tests {
         near(got.sxx, want.sxx, s2, rel, &format!("{what} sxx"));
         near(got.syy, want.syy, s2, rel, &format!("{what} syy"));
         near(got.sxy, want.sxy, s2, rel, &format!("{what} sxy"));
+    }
+
+    /// An integrand that overflows is integrated once and split no further (a curve near
+    /// 1e154 mm used up the whole budget on each of its pieces; found by fuzzing).
+    #[test]
+    fn adaptive_takes_non_finite_halves_at_once() {
+        let rule = gauss_legendre(8);
+        for value in [f64::INFINITY, f64::NAN] {
+            let mut calls = 0;
+            let mut f = |_t: f64| {
+                calls += 1;
+                [value, 1.0]
+            };
+            let whole = gauss(&mut f, 0.0, 1.0, rule);
+            let got = adaptive(&mut f, 0.0, 1.0, rule, [1e-12, 1e-12], whole, 0);
+            assert!(!got[0].is_finite() && got[1] == 1.0, "{got:?}");
+            // The whole interval and its two halves.
+            assert_eq!(calls, 3 * rule.x.len(), "{value}");
+        }
+        // A finite integrand that needs splitting still gets them.
+        let mut calls = 0;
+        let mut f = |t: f64| {
+            calls += 1;
+            [t.abs().sqrt()]
+        };
+        let whole = gauss(&mut f, -1.0, 1.0, rule);
+        let got = adaptive(&mut f, -1.0, 1.0, rule, [1e-12], whole, 0);
+        // ∫ √|t| dt over [−1, 1] = 4/3.
+        assert!((got[0] - 4.0 / 3.0).abs() < 1e-9, "{got:?}");
+        assert!(calls > 10 * rule.x.len(), "{calls}");
     }
 
     /// Ellipse with semi-axes a (at `angle` from the x axis) and b, from t0 to t1.

@@ -312,7 +312,16 @@ enum PairSearch {
 /// many cells (a long line across a sheet) is kept in a separate list and paired with every
 /// other box instead. A pair met in several cells is reported once: in the cell holding the
 /// lower-left corner of the two boxes' overlap, which is the larger of their lower-left cells.
+///
+/// A cell that holds many boxes (a finely divided outline that takes one cell of a grid
+/// spread over a far-away stray loop) is searched again with a grid over its own boxes, a
+/// few levels deep, instead of pair by pair.
 struct SegmentGrid {
+    /// The boxes, and the grid's frame: its lower-left corner and cell size.
+    boxes: Vec<BBox>,
+    tol: f64,
+    origin: Point,
+    cell: f64,
     nx: usize,
     ny: usize,
     /// Items of cell k: `members[start[k]..start[k + 1]]`.
@@ -329,6 +338,9 @@ impl SegmentGrid {
     /// Cells per side at most, and cells one box may cover before it counts as big.
     const MAX_SIDE: usize = 4096;
     const MAX_COVER: usize = 64;
+    /// Boxes in a cell above which the cell gets a grid of its own, and levels of that.
+    const CROWDED: usize = 64;
+    const MAX_DEPTH: u32 = 3;
 
     fn new(all: &BBox, boxes: impl Iterator<Item = BBox>, tol: f64) -> SegmentGrid {
         let (w, h) = (all.width() + 2.0 * tol, all.height() + 2.0 * tol);
@@ -363,6 +375,10 @@ impl SegmentGrid {
             })
             .collect();
         let mut grid = SegmentGrid {
+            boxes,
+            tol,
+            origin,
+            cell,
             nx,
             ny,
             start: vec![0; nx * ny + 1],
@@ -411,15 +427,38 @@ impl SegmentGrid {
 
     /// Call `f(i, j)` once for every pair of boxes that share a cell (or involve a big box).
     fn for_each_pair(&self, mut f: impl FnMut(u32, u32)) {
+        self.pairs(&mut f, 0);
+    }
+
+    fn pairs(&self, f: &mut dyn FnMut(u32, u32), depth: u32) {
         for y in 0..self.ny {
             for x in 0..self.nx {
                 let k = y * self.nx + x;
                 let cell = &self.members[self.start[k] as usize..self.start[k + 1] as usize];
+                // The pair's owner is the cell of its overlap's lower-left corner.
+                let owned = |i: u32, j: u32| {
+                    let (si, sj) = (self.spans[i as usize], self.spans[j as usize]);
+                    (si[0].max(sj[0]) as usize, si[1].max(sj[1]) as usize) == (x, y)
+                };
+                if cell.len() > Self::CROWDED && depth < Self::MAX_DEPTH {
+                    if let Some(sub) = self.refined(cell, x, y) {
+                        // The corner lies in this cell, so the cell's own grid meets the pair
+                        // in the sub-cell of that corner, once.
+                        sub.pairs(
+                            &mut |a, b| {
+                                let (i, j) = (cell[a as usize], cell[b as usize]);
+                                if owned(i, j) {
+                                    f(i, j);
+                                }
+                            },
+                            depth + 1,
+                        );
+                        continue;
+                    }
+                }
                 for (a, &i) in cell.iter().enumerate() {
-                    let si = self.spans[i as usize];
                     for &j in &cell[a + 1..] {
-                        let sj = self.spans[j as usize];
-                        if (si[0].max(sj[0]) as usize, si[1].max(sj[1]) as usize) == (x, y) {
+                        if owned(i, j) {
                             f(i, j);
                         }
                     }
@@ -435,6 +474,24 @@ impl SegmentGrid {
                 }
             }
         }
+    }
+
+    /// A grid over the boxes `members` of cell (x, y), spread over the part of the cell
+    /// they cover (its item numbers index `members`); `None` when it would be no finer.
+    fn refined(&self, members: &[u32], x: usize, y: usize) -> Option<SegmentGrid> {
+        let lo = self.origin + Point::new(x as f64, y as f64) * self.cell;
+        let hi = lo + Point::new(self.cell, self.cell);
+        let boxes = members.iter().map(|&i| self.boxes[i as usize]);
+        let union = boxes.clone().fold(BBox::EMPTY, |b, o| b.union(&o));
+        let all = BBox {
+            min: Point::new(union.min.x.max(lo.x), union.min.y.max(lo.y)),
+            max: Point::new(union.max.x.min(hi.x), union.max.y.min(hi.y)),
+        };
+        if !(all.min.x <= all.max.x && all.min.y <= all.max.y) {
+            return None;
+        }
+        let sub = SegmentGrid::new(&all, boxes, self.tol);
+        (sub.nx * sub.ny > 1).then_some(sub)
     }
 }
 
@@ -876,6 +933,41 @@ mod tests {
                 SegmentGrid::new(&all, boxes.iter().copied(), tol).for_each_pair(f)
             });
             assert_eq!(gridded, expected, "grid, n = {n}");
+        }
+    }
+
+    /// A finely divided outline and one far-away box: the grid spreads over the far box, so
+    /// the outline takes one of its cells, which gets a grid of its own (and that a few more
+    /// levels). Every pair is still found once, and the candidates stay near the boxes'
+    /// count instead of its square (found by fuzzing: 111 000 chords of a curve in one cell).
+    #[test]
+    fn a_crowded_cell_is_searched_with_a_grid_of_its_own() {
+        for (far, tol) in [(1e9, 0.0), (1e300, 0.0), (1e6, 0.01)] {
+            let mut boxes = scattered(4000, 7);
+            boxes.push(BBox {
+                min: Point::new(far, far),
+                max: Point::new(far + 1.0, far + 1.0),
+            });
+            // A stack of tiny boxes in a column, all in one cell of the refined grid too.
+            boxes.extend((0..500).map(|k| BBox {
+                min: Point::new(50.0, 50.0 + 1e-3 * k as f64),
+                max: Point::new(50.0, 50.0 + 1e-3 * (k + 1) as f64),
+            }));
+            let all = bounds(&boxes);
+            let expected = all_pairs(&boxes, tol);
+            let mut candidates = 0;
+            let (found, ()) = reported(&boxes, tol, |f| {
+                SegmentGrid::new(&all, boxes.iter().copied(), tol).for_each_pair(|i, j| {
+                    candidates += 1;
+                    f(i, j)
+                })
+            });
+            assert_eq!(found, expected, "far = {far}");
+            let n = boxes.len();
+            assert!(
+                candidates < 20 * n,
+                "{candidates} candidates for {n} boxes, far = {far}"
+            );
         }
     }
 

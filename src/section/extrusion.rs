@@ -114,6 +114,16 @@ pub fn extrusion_props(
     if profiles.is_empty() || !(size.is_finite() && size > 0.0) {
         return Err("extrusion figures: the section has no extent".into());
     }
+    // Distances are roots of sums of squares: beyond about 1e154 mm the squares overflow,
+    // every distance comes out infinite and the searches never settle (each nearest-segment
+    // query would walk the whole grid). A margin of 4 covers points of the search cells
+    // and rays beyond the section's box.
+    if !(4.0 * size).powi(2).is_finite() {
+        return Err(format!(
+            "extrusion figures: the section is too large ({size:.3e} mm) for distances in \
+             double precision"
+        ));
+    }
     // Work about the box centre: full precision far from the drawing's origin.
     let reference = bbox.center();
     let shift =
@@ -957,11 +967,19 @@ fn largest_inscribed_circle(
             potential: d + half * SQRT_2,
         }
     };
-    let side = bbox.width().min(bbox.height());
+    let (short, long) = (
+        bbox.width().min(bbox.height()),
+        bbox.width().max(bbox.height()),
+    );
     let mut best = cell(bbox.center(), 0.0, f64::NEG_INFINITY);
-    if side.is_nan() || side <= 0.0 {
+    if short.is_nan() || short <= 0.0 {
         return (best.d.max(0.0), best.center);
     }
+    // Square cells of the box's short side, but about INSCRIBED_CELLS of them at most: a
+    // sliver (a triangle 50 mm long and 1e-300 mm high) would otherwise start with more
+    // cells than memory holds. Larger cells are as sound (a cell's potential bounds every
+    // point of it), only slower to split.
+    let side = short.max(long / INSCRIBED_CELLS as f64);
     let precision = 1e-9 * size;
     let mut heap = BinaryHeap::new();
     let (nx, ny) = (

@@ -160,8 +160,10 @@ fn decode(bytes: &[u8]) -> (std::borrow::Cow<'_, str>, &'static str) {
     let label = head
         .find("encoding=")
         .and_then(|i| {
+            // The value in single or double quotes (XML 1.0, §4.3.3); the quote is ASCII, so
+            // slicing past it stays on a character boundary.
             let rest = &head[i + 9..];
-            let q = rest.chars().next()?;
+            let q = rest.chars().next().filter(|&c| c == '"' || c == '\'')?;
             let rest = &rest[1..];
             rest.find(q).map(|j| rest[..j].to_string())
         })

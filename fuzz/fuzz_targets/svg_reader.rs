@@ -1,0 +1,8 @@
+//! Arbitrary bytes as an SVG file: the reader, `measure`'s analysis and `explain`.
+#![no_main]
+
+use libfuzzer_sys::fuzz_target;
+
+fuzz_target!(|data: &[u8]| {
+    sectio_fuzz::svg_reader(data);
+});
