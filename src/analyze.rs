@@ -85,12 +85,22 @@ pub fn default_join_gap(extent_mm: f64, short_segment_mm: f64) -> f64 {
 /// below 1e-12 mm), so that a small drawing keeps its small features: the same profile drawn
 /// at a thousandth of the size chains alike and gives the same results scaled.
 fn gap_floor(extent_mm: f64) -> f64 {
-    (extent_mm * 1e-8).clamp(1e-12, 1e-6)
+    let floor = extent_mm * 1e-8;
+    if floor.is_nan() {
+        1e-6 // no extent to scale by (coordinates that are not numbers)
+    } else {
+        floor.clamp(1e-12, 1e-6)
+    }
 }
 
 /// The gap by extent alone: 1e-4 of it, kept between the floor and 0.05 mm.
 fn extent_gap(extent_mm: f64) -> f64 {
-    (extent_mm * 1e-4).clamp(gap_floor(extent_mm), 0.05)
+    let gap = extent_mm * 1e-4;
+    if gap.is_nan() {
+        gap_floor(extent_mm)
+    } else {
+        gap.clamp(gap_floor(extent_mm), 0.05)
+    }
 }
 
 /// The extent of a drawing's pieces (the diagonal of a box holding them) and the length of
@@ -601,6 +611,8 @@ mod tests {
         assert_eq!(default_join_gap(1000.0, inf), 0.05); // capped
         assert!((default_join_gap(0.001, inf) - 1e-7).abs() < 1e-20); // 1e-4 of a tiny extent
         assert_eq!(default_join_gap(1e-6, 1e-20), 1e-12); // the floor's floor
+        assert_eq!(default_join_gap(f64::NAN, f64::INFINITY), 1e-6); // no extent: no panic
+        assert_eq!(default_join_gap(f64::INFINITY, f64::INFINITY), 0.05);
         assert!((default_join_gap(0.01, 1e-12) - 1e-10).abs() < 1e-22); // 1e-8 of a small extent
         assert_eq!(default_join_gap(100.0, 0.02), 0.005); // a quarter of the short segments
         assert_eq!(default_join_gap(100.0, 1e-9), 1e-6); // never below the floor

@@ -307,7 +307,7 @@ fn with_file_bytes<R>(path: &Path, limit: u64, f: impl FnOnce(&[u8]) -> R) -> st
                 if filled >= cap {
                     return Err(std::io::Error::from(std::io::ErrorKind::FileTooLarge));
                 }
-                buf.resize((2 * buf.len()).clamp(256 * 1024, cap), 0);
+                buf.resize((2 * buf.len()).max(256 * 1024).min(cap), 0);
             }
             match file.read(&mut buf[filled..]) {
                 Ok(0) => return Ok(filled),
