@@ -371,20 +371,10 @@ pub fn arc_path(arc: &Arc, num: &dyn Fn(f64) -> String) -> String {
     }
 }
 
-/// Text with XML's five special characters escaped.
+/// Text with XML's five special characters escaped (the HTML report's escaping, which
+/// writes the apostrophe as `&#39;`, valid in XML too).
 fn escape(text: &str) -> String {
-    let mut s = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '&' => s.push_str("&amp;"),
-            '<' => s.push_str("&lt;"),
-            '>' => s.push_str("&gt;"),
-            '"' => s.push_str("&quot;"),
-            '\'' => s.push_str("&apos;"),
-            c => s.push(c),
-        }
-    }
-    s
+    super::html::escape_html(text)
 }
 
 /// A sheet being written: the drawing's extent, the scale and the text so far.
