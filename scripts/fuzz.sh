@@ -63,6 +63,10 @@ for t in "${targets[@]}"; do
     case "$t" in
         dxf_reader) opts+=(-dict=dicts/dxf.dict) ;;
         svg_reader) opts+=(-dict=dicts/svg.dict) ;;
+        # Soups of up to a few dozen operations from the start: libFuzzer otherwise grows
+        # the input length slowly (30 bytes after ten minutes), and a soup that short holds
+        # only a few segments.
+        pipeline) opts+=(-max_len=512 -len_control=0) ;;
     esac
     # With -jobs libFuzzer writes each process's output to fuzz/fuzz-N.log instead.
     [ "$jobs" -le 1 ] || opts+=(-jobs="$jobs" -workers="$jobs")
