@@ -59,6 +59,16 @@ fn a_mixed_folder_accounts_for_every_file() {
     // CI may run as root).
     #[cfg(unix)]
     std::os::unix::fs::symlink(d.join("no-such-target"), d.join("dangling.dxf")).expect("link");
+    // A file without read permission: an error row for an ordinary user; root reads it
+    // anyway (and CI may run as root), so then it is measured. Either way it has its row.
+    #[cfg(unix)]
+    let locked_readable = {
+        use std::os::unix::fs::PermissionsExt;
+        copy("fixtures/dxf/tube.dxf", "locked.dxf");
+        let locked = d.join("locked.dxf");
+        std::fs::set_permissions(&locked, std::fs::Permissions::from_mode(0o000)).expect("chmod");
+        std::fs::File::open(&locked).is_ok()
+    };
     // Not a drawing by its name: not in the run.
     std::fs::write(d.join("readme.txt"), b"hello").expect("write");
 
@@ -90,6 +100,7 @@ fn a_mixed_folder_accounts_for_every_file() {
     .collect();
     if cfg!(unix) {
         expected.insert("dangling.dxf".into());
+        expected.insert("locked.dxf".into());
     }
     assert_eq!(
         files, expected,
@@ -113,12 +124,24 @@ fn a_mixed_folder_accounts_for_every_file() {
     ] {
         assert_eq!(status_of(bad), ["error"], "{bad}");
     }
-    if cfg!(unix) {
+    #[cfg(unix)]
+    {
         let row = rows
             .iter()
             .find(|r| r.0.ends_with("/dangling.dxf"))
             .expect("row");
         assert!(row.3.contains("cannot read file"), "{row:?}");
+        let locked = status_of("/locked.dxf");
+        if locked_readable {
+            assert_eq!(locked, ["ok"], "root reads it");
+        } else {
+            assert_eq!(locked, ["error"], "no permission");
+            let row = rows
+                .iter()
+                .find(|r| r.0.ends_with("/locked.dxf"))
+                .expect("row");
+            assert!(row.3.contains("cannot read file"), "{row:?}");
+        }
     }
     // Every error row says what went wrong.
     assert!(rows
