@@ -21,7 +21,7 @@ for n in 1000 10000 100000 1000000; do
     segs=$(( n / 16 * 16 ))
     best_c=""; best_n=""; best_a=""
     for _ in 1 2 3; do
-        t=$("$BIN" measure "$f" --timings -j 1 -o /dev/null 2>&1 >/dev/null)
+        t=$("$BIN" measure "$f" --timings -j 1 -o "$OUT/out.csv" 2>&1 >/dev/null)
         c=$(echo "$t" | awk '/^  chain /{print $2}')
         ne=$(echo "$t" | awk '/crossings and nesting/{print $4}')
         al=$(echo "$t" | awk '/all steps/{print $3}')

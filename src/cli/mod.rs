@@ -499,6 +499,15 @@ pub fn write_atomically(
     path: &Path,
     write: impl FnOnce(&mut std::io::BufWriter<&mut std::fs::File>) -> std::io::Result<()>,
 ) -> anyhow::Result<()> {
+    // A device or a pipe (`-o /dev/null`, `/dev/stdout`, a FIFO) is written in place:
+    // renaming a temporary file over it would replace the device with a plain file.
+    if std::fs::metadata(path).is_ok_and(|m| !m.is_file() && !m.is_dir()) {
+        let mut file = std::fs::OpenOptions::new().write(true).open(path)?;
+        let mut w = std::io::BufWriter::new(&mut file);
+        write(&mut w)?;
+        w.flush()?;
+        return Ok(());
+    }
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
@@ -573,6 +582,31 @@ mod tests {
         let failed = write_atomically(&path, |_| Err(std::io::Error::other("disk full")));
         assert!(failed.is_err());
         assert!(listed().is_empty());
+        assert_eq!(std::fs::read_dir(dir.path()).expect("dir").count(), 1);
+    }
+
+    /// A pipe or device given as the output is written in place, never replaced by a file
+    /// (as root, renaming over `/dev/null` would turn it into a plain file).
+    #[cfg(unix)]
+    #[test]
+    fn a_pipe_as_output_is_written_in_place() {
+        use std::io::Write;
+        use std::os::unix::fs::FileTypeExt;
+        let dir = tempfile::tempdir().expect("temp dir");
+        let fifo = dir.path().join("pipe");
+        let made = std::process::Command::new("mkfifo")
+            .arg(&fifo)
+            .status()
+            .expect("mkfifo");
+        assert!(made.success());
+        let reader = {
+            let fifo = fifo.clone();
+            std::thread::spawn(move || std::fs::read(fifo).expect("read the pipe"))
+        };
+        write_atomically(&fifo, |w| w.write_all(b"rows\n")).expect("write");
+        assert_eq!(reader.join().expect("reader"), b"rows\n");
+        let kind = std::fs::symlink_metadata(&fifo).expect("meta").file_type();
+        assert!(kind.is_fifo(), "still a pipe");
         assert_eq!(std::fs::read_dir(dir.path()).expect("dir").count(), 1);
     }
 
