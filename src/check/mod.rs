@@ -316,6 +316,12 @@ impl Comparison {
         let s = self.stated?;
         (s != 0.0).then(|| self.difference().map(|d| d / s.abs()))?
     }
+    /// The relative difference for reading beside the difference, as ` (+1.23%)`; empty
+    /// when there is none (summaries and the report).
+    pub fn relative_note(&self) -> String {
+        self.relative_difference()
+            .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0))
+    }
 }
 
 /// Which of a drawing's outcomes a catalog row means: by number, by layer, or the only one.

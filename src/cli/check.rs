@@ -489,9 +489,7 @@ pub fn markdown_summary(
         md.push_str("| line | part | drawing | profile | property | stated | measured | difference | reason |\n");
         md.push_str("|---:|---|---|---|---|---:|---:|---:|---|\n");
         for c in failures {
-            let rel = c
-                .relative_difference()
-                .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0));
+            let rel = c.relative_note();
             md.push_str(&format!(
                 "| {} | {} | {} | {} | {} | {} | {} | {}{} | {} |\n",
                 c.line,

@@ -304,9 +304,7 @@ fn comparison_table(cs: &[&Comparison]) -> String {
     );
     for c in cs {
         let opt = |v: Option<f64>| v.map_or_else(String::new, show);
-        let rel = c
-            .relative_difference()
-            .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0));
+        let rel = c.relative_note();
         let (class, status) = if c.pass {
             ("ok", "pass")
         } else {
@@ -363,9 +361,7 @@ pub fn check_intro(
         h.push_str("<h3>Failed values</h3>\n<table id=\"failures\" class=\"compare\"><thead><tr><th>line</th><th>part</th><th>drawing</th><th>profile</th><th>property</th><th>stated</th><th>measured</th><th>difference</th><th>reason</th></tr></thead><tbody>\n");
         for c in failures {
             let opt = |v: Option<f64>| v.map_or_else(String::new, show);
-            let rel = c
-                .relative_difference()
-                .map_or_else(String::new, |r| format!(" ({:+.2}%)", r * 100.0));
+            let rel = c.relative_note();
             let drawing = escape_html(&c.drawing);
             let drawing = match link(c) {
                 Some(id) => format!("<a href=\"#{id}\">{drawing}</a>"),
