@@ -169,42 +169,27 @@ fn a_mixed_folder_accounts_for_every_file() {
 fn a_file_over_the_time_limit_becomes_an_error_row_and_the_run_goes_on() {
     let demo = root().join("fixtures/demo");
     let demo = demo.to_str().expect("utf-8");
-    let free = sectio(&["measure", demo, "--layer", "PROFILE", "--all"]);
+    let with_limit = |limit: Option<&str>| {
+        let mut args = vec!["measure", demo, "--layer", "PROFILE", "--all"];
+        if let Some(l) = limit {
+            args.extend(["--time-limit", l]);
+        }
+        sectio(&args)
+    };
+    let free = with_limit(None);
     assert_eq!(free.status.code(), Some(0), "{free:?}");
     // A generous limit changes nothing.
-    let generous = sectio(&[
-        "measure",
-        demo,
-        "--layer",
-        "PROFILE",
-        "--all",
-        "--time-limit",
-        "3600",
-    ]);
+    let generous = with_limit(Some("3600"));
     assert_eq!(generous.status.code(), Some(0));
     assert_eq!(stdout(&generous), stdout(&free));
     // A limit no file can keep: one error row per file, naming the limit and the step.
-    let tight = sectio(&[
-        "measure",
-        demo,
-        "--layer",
-        "PROFILE",
-        "--all",
-        "--time-limit",
-        "0.000001",
-    ]);
+    let tight = with_limit(Some("0.000001"));
     assert_eq!(tight.status.code(), Some(1), "{tight:?}");
     let tight_rows = rows(&stdout(&tight));
-    let files: BTreeSet<&str> = rows(&stdout(&free))
-        .iter()
-        .map(|r| r.0.clone())
-        .collect::<BTreeSet<String>>()
-        .iter()
-        .map(|f| Box::leak(f.clone().into_boxed_str()) as &str)
-        .collect();
+    let files: BTreeSet<String> = rows(&stdout(&free)).into_iter().map(|r| r.0).collect();
     assert_eq!(tight_rows.len(), files.len(), "{tight_rows:#?}");
     for r in &tight_rows {
-        assert!(files.contains(r.0.as_str()));
+        assert!(files.contains(&r.0));
         assert_eq!((r.1.as_str(), r.2.as_str()), ("0", "error"));
         assert!(
             r.3.contains("time limit of 0.000001 s while") && r.3.contains("--time-limit"),
