@@ -522,153 +522,214 @@ fn floor_i64(v: f64) -> i64 {
     t.wrapping_sub(i64::from((t as f64) > v))
 }
 
-/// End of a cell's list of nodes.
+/// No node (also "no twin" in `chain`'s fingerprint lists).
 const NONE: u32 = u32::MAX;
 
-/// Grid of merged endpoint nodes.
+/// Merged run ends: the node of each end, and each node's position.
 struct Nodes {
-    /// 1 / cell size (a multiplication is cheaper than a division).
-    inv_cell: f64,
-    /// join_gap / cell size: how near a cell's border a point must be to look next door.
-    margin: f64,
-    join_gap: f64,
-    /// First node in each cell; further nodes of the cell follow through `next`.
-    grid: CellTable,
-    next: Vec<u32>,
+    of_end: Vec<u32>,
     pos: Vec<Point>,
 }
 
-/// Grid cells to the first node in each: a hash table by open addressing with linear
-/// probing (common practice), its size a power of two at least twice the number of cells it
-/// may hold, so that probes stay short. Leaner than a general map for the lookups every
-/// loose segment's two ends make (about a tenth of the chaining time on loose sheets).
-struct CellTable {
-    keys: Vec<(i64, i64)>,
-    /// NONE marks an empty slot.
-    heads: Vec<u32>,
-    mask: usize,
-}
+/// Merge the points lying within `join_gap` of each other into nodes; `Nodes::of_end[i]` is
+/// the node of `points[i]`, and a node sits at the first of its points in the order given.
+///
+/// Points are filed in grid cells sixteen gaps wide, sorted by cell (column, then row, then
+/// the order given) and swept in that order: each takes the nearest node within `join_gap`
+/// (the lowest-numbered of equals) among those already made in its own cell and, when it lies
+/// within one gap of a cell border, in the cells across that border that come earlier;
+/// otherwise it makes a node. Two points within the gap in neighbouring
+/// cells are always matched: the later one lies within a gap of their common border and looks
+/// back across it. Sorting makes every later pass read memory in order, so the time per point
+/// stays flat from a thousand points to millions; a hash grid visited in drawing order missed
+/// the cache on nearly every lookup once a drawing outgrew it.
+fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
+    let n = points.len();
+    let cell = (16.0 * join_gap).max(f64::MIN_POSITIVE);
+    let inv_cell = 1.0 / cell;
+    let margin = join_gap / cell;
+    let gap2 = join_gap * join_gap;
+    let cell_of = |p: &Point| (floor_i64(p.x * inv_cell), floor_i64(p.y * inv_cell));
+    let order = sorted_by_cell(&points.iter().map(cell_of).collect::<Vec<_>>());
 
-impl CellTable {
-    /// A table for at most `cells` cells.
-    fn with_room(cells: usize) -> CellTable {
-        let size = (2 * cells).next_power_of_two().max(16);
-        CellTable {
-            keys: vec![(0, 0); size],
-            heads: vec![NONE; size],
-            mask: size - 1,
-        }
-    }
-
-    /// The slot where the search for `k` starts: the high bits of a multiplicative hash.
-    fn start(&self, k: (i64, i64)) -> usize {
-        let h = (k.0 as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15)
-            ^ (k.1 as u64).wrapping_mul(0xc2b2_ae3d_27d4_eb4f);
-        (h >> 32) as usize & self.mask
-    }
-
-    /// The first node of cell `k`, or NONE.
-    fn get(&self, k: (i64, i64)) -> u32 {
-        let mut i = self.start(k);
-        loop {
-            let head = self.heads[i];
-            if head == NONE || self.keys[i] == k {
-                return head;
+    let mut of_end = vec![NONE; n];
+    let mut pos: Vec<Point> = Vec::with_capacity(n);
+    // Cells of the previous and of the current column: (row, first node, end of its nodes).
+    let mut prev: Vec<(i64, u32, u32)> = Vec::new();
+    let mut cur: Vec<(i64, u32, u32)> = Vec::new();
+    let mut cur_col: Option<i64> = None;
+    let mut i = 0;
+    while i < n {
+        let (cx, cy) = cell_of(&points[order[i] as usize]);
+        if cur_col != Some(cx) {
+            std::mem::swap(&mut prev, &mut cur);
+            if cur_col.is_none_or(|c| c.wrapping_add(1) != cx) {
+                prev.clear();
             }
-            i = (i + 1) & self.mask;
+            cur.clear();
+            cur_col = Some(cx);
         }
-    }
-
-    /// The slot holding cell `k`'s first node, claimed for `k` (holding NONE) if new.
-    fn head_mut(&mut self, k: (i64, i64)) -> &mut u32 {
-        let mut i = self.start(k);
-        while self.heads[i] != NONE && self.keys[i] != k {
-            i = (i + 1) & self.mask;
-        }
-        self.keys[i] = k;
-        &mut self.heads[i]
-    }
-}
-
-impl Nodes {
-    /// The node within `join_gap` of `p` (the nearest, when several), or a new one.
-    ///
-    /// Cells are sixteen gaps wide, so only a point within one gap of its cell's border needs
-    /// the neighbouring cells searched.
-    fn id(&mut self, p: Point) -> u32 {
-        // Drawings often list a chain's entities in order, each starting exactly where the
-        // one before ends: then the newest node is the answer (at distance 0, none nearer).
-        if let Some(&last) = self.pos.last() {
-            if last == p {
-                return self.pos.len() as u32 - 1;
-            }
-        }
-        let (fx, fy) = (p.x * self.inv_cell, p.y * self.inv_cell);
-        let (cx, cy) = (floor_i64(fx), floor_i64(fy));
-        let margin = self.margin;
-        let (rx, ry) = (fx - cx as f64, fy - cy as f64);
-        let dxs: &[i64] = if rx < margin {
-            &[0, -1]
-        } else if rx > 1.0 - margin {
-            &[0, 1]
-        } else {
-            &[0]
+        let first = pos.len() as u32;
+        // The cell below, when it was the last one filed in this column.
+        let below = cur
+            .last()
+            .filter(|c| c.0 == cy.wrapping_sub(1))
+            .map(|c| (c.1, c.2));
+        // A cell of the previous column, by row.
+        let left = |row: i64| {
+            prev.binary_search_by_key(&row, |c| c.0)
+                .ok()
+                .map(|k| (prev[k].1, prev[k].2))
         };
-        let dys: &[i64] = if ry < margin {
-            &[0, -1]
-        } else if ry > 1.0 - margin {
-            &[0, 1]
-        } else {
-            &[0]
-        };
-        // Squared distances: the same order, and no square root to wait for.
-        let gap2 = self.join_gap * self.join_gap;
-        let mut best: Option<(f64, u32)> = None;
-        for &dx in dxs {
-            for &dy in dys {
-                let mut id = self.grid.get((cx.wrapping_add(dx), cy.wrapping_add(dy)));
-                while id != NONE {
-                    let v = self.pos[id as usize] - p;
+        while i < n && cell_of(&points[order[i] as usize]) == (cx, cy) {
+            let e = order[i];
+            let p = points[e as usize];
+            // Where in its cell the point lies (0..1 across, each way).
+            let (rx, ry) = (p.x * inv_cell - cx as f64, p.y * inv_cell - cy as f64);
+            let mut best: Option<(f64, u32)> = None;
+            let mut look = |nodes: (u32, u32), pos: &[Point]| {
+                for id in nodes.0..nodes.1 {
+                    let v = pos[id as usize] - p;
                     let d2 = v.dot(v);
-                    if d2 <= gap2 && best.is_none_or(|(bd2, _)| d2 < bd2) {
+                    if d2 <= gap2 && best.is_none_or(|b| (d2, id) < b) {
                         best = Some((d2, id));
                     }
-                    id = self.next[id as usize];
+                }
+            };
+            look((first, pos.len() as u32), &pos);
+            if ry < margin {
+                if let Some(b) = below {
+                    look(b, &pos);
                 }
             }
+            if rx < margin {
+                let rows = [
+                    (ry < margin, cy.wrapping_sub(1)),
+                    (true, cy),
+                    (ry > 1.0 - margin, cy.wrapping_add(1)),
+                ];
+                for (wanted, row) in rows {
+                    if let Some(l) = left(row).filter(|_| wanted) {
+                        look(l, &pos);
+                    }
+                }
+            }
+            of_end[e as usize] = match best {
+                Some((_, id)) => id,
+                None => {
+                    pos.push(p);
+                    pos.len() as u32 - 1
+                }
+            };
+            i += 1;
         }
-        if let Some((_, id)) = best {
-            return id;
-        }
-        let id = self.pos.len() as u32;
-        self.pos.push(p);
-        let head = self.grid.head_mut((cx, cy));
-        self.next.push(*head);
-        *head = id;
-        id
+        cur.push((cy, first, pos.len() as u32));
     }
+    // Each node moves to its first point in the order given (drawing order), so that the
+    // result does not depend on the sorting.
+    let mut placed = vec![false; pos.len()];
+    for (&id, &p) in of_end.iter().zip(points) {
+        if !std::mem::replace(&mut placed[id as usize], true) {
+            pos[id as usize] = p;
+        }
+    }
+    Nodes { of_end, pos }
+}
+
+/// The indices of `cells` sorted by cell (column, then row), equal cells in index order.
+///
+/// A stable least-significant-digit radix sort (common practice) of words holding a cell's
+/// offset from the lowest column and row above the index: eight bytes an entry and linear
+/// in the number of points, so the sweep in [`merge_ends`] stays linear too. A comparison
+/// sort gives the same order for few points, or when the offsets need more than 32 bits
+/// (over 65 536 cells each way).
+fn sorted_by_cell(cells: &[(i64, i64)]) -> Vec<u32> {
+    let n = cells.len();
+    let (mut lo, mut hi) = ((i64::MAX, i64::MAX), (i64::MIN, i64::MIN));
+    for &(cx, cy) in cells {
+        lo = (lo.0.min(cx), lo.1.min(cy));
+        hi = (hi.0.max(cx), hi.1.max(cy));
+    }
+    let bits = |lo: i64, hi: i64| 64 - (hi.wrapping_sub(lo) as u64).leading_zeros();
+    let (bx, by) = (bits(lo.0, hi.0), bits(lo.1, hi.1));
+    if n < 512 || bx + by > 32 {
+        let mut order: Vec<u32> = (0..n as u32).collect();
+        order.sort_unstable_by_key(|&i| (cells[i as usize], i));
+        return order;
+    }
+    let mut items: Vec<u64> = cells
+        .iter()
+        .enumerate()
+        .map(|(i, &(cx, cy))| {
+            let x = cx.wrapping_sub(lo.0) as u64;
+            let y = cy.wrapping_sub(lo.1) as u64;
+            ((x << by | y) << 32) | i as u64
+        })
+        .collect();
+    let mut spare = vec![0u64; n];
+    const DIGIT: u32 = 8;
+    let mut shift = 32;
+    while shift < 32 + bx + by {
+        let digit = |k: u64| ((k >> shift) & ((1 << DIGIT) - 1)) as usize;
+        let mut count = [0usize; 1 << DIGIT];
+        for &k in &items {
+            count[digit(k)] += 1;
+        }
+        let mut at = 0;
+        for c in count.iter_mut() {
+            let here = *c;
+            *c = at;
+            at += here;
+        }
+        for &k in &items {
+            let d = digit(k);
+            spare[count[d]] = k;
+            count[d] += 1;
+        }
+        std::mem::swap(&mut items, &mut spare);
+        shift += DIGIT;
+    }
+    items.into_iter().map(|k| k as u32).collect()
 }
 
 fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mut Chained) {
     if runs.is_empty() {
         return;
     }
-    let runs = &runs[..];
-    let cell = (16.0 * join_gap).max(f64::MIN_POSITIVE);
-    let mut nodes = Nodes {
-        inv_cell: 1.0 / cell,
-        margin: join_gap / cell,
-        join_gap,
-        grid: CellTable::with_room(runs.len() * 2),
-        next: Vec::with_capacity(runs.len() * 2),
-        pos: Vec::with_capacity(runs.len() * 2),
-    };
-    // ends[i] = (node at the run's start, node at its end)
-    let ends: Vec<(u32, u32)> = runs
+    let points: Vec<Point> = runs
         .iter()
-        .map(|(r, _)| (nodes.id(r[0].start()), nodes.id(r[r.len() - 1].end())))
+        .flat_map(|(r, _)| [r[0].start(), r[r.len() - 1].end()])
         .collect();
+    let nodes = merge_ends(&points, join_gap);
+    drop(points);
     let n_nodes = nodes.pos.len();
+    // Runs are renumbered in the order of their start nodes, which follows the grid: the
+    // walks below then step between neighbours in memory. `perm[k]` is the drawing-order
+    // index of run k, `rank[r]` the new number of run r. Wherever a choice depends on order
+    // (where a loop starts, which entity a message names), drawing order decides, as it did
+    // before the renumbering, so results do not depend on it.
+    let perm = counting_sort(runs.len(), n_nodes, |r| nodes.of_end[2 * r]);
+    let mut rank = vec![0u32; runs.len()];
+    for (k, &r) in perm.iter().enumerate() {
+        rank[r as usize] = k as u32;
+    }
+    // ends[k] = (node at run k's start, node at its end)
+    let ends: Vec<(u32, u32)> = perm
+        .iter()
+        .map(|&r| {
+            (
+                nodes.of_end[2 * r as usize],
+                nodes.of_end[2 * r as usize + 1],
+            )
+        })
+        .collect();
+    // The runs' segments copied into one array in that order; their own vectors are freed
+    // in drawing order, the order they were made in.
+    let runs = {
+        let sorted = Runs::gather(&runs, &perm);
+        drop(runs);
+        sorted
+    };
     // Adjacency in compressed form: for each node, the runs touching it.
     let mut degree = vec![0u32; n_nodes + 1];
     for &(a, b) in &ends {
@@ -687,10 +748,23 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
         adj[fill[b as usize]] = i as u32;
         fill[b as usize] += 1;
     }
+    drop(fill);
     let touching = |n: u32| &adj[offset[n as usize]..offset[n as usize + 1]];
+    // Each node once, in the order of its first end in the drawing.
+    let by_first_end = || {
+        let mut seen = vec![false; n_nodes];
+        let mut order = Vec::with_capacity(n_nodes);
+        for &n in &nodes.of_end {
+            if !std::mem::replace(&mut seen[n as usize], true) {
+                order.push(n);
+            }
+        }
+        order
+    };
 
     // Single segments drawn twice, either way round: twins join the same two nodes and have
-    // the same key. Dropped (and counted), then the rest is linked afresh.
+    // the same key. The later one in the drawing is dropped (and counted), then the rest is
+    // linked afresh.
     let q = join_gap.max(f64::MIN_POSITIVE);
     let mut twin = vec![false; runs.len()];
     let mut twins = 0;
@@ -698,8 +772,12 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
         let t = touching(n);
         for (k, &r1) in t.iter().enumerate() {
             for &r2 in &t[k + 1..] {
-                let (r1, r2) = (r1.min(r2) as usize, r1.max(r2) as usize);
-                let (a, b) = (&runs[r1].0, &runs[r2].0);
+                let (r1, r2) = if perm[r1 as usize] < perm[r2 as usize] {
+                    (r1 as usize, r2 as usize)
+                } else {
+                    (r2 as usize, r1 as usize)
+                };
+                let (a, b) = (runs.run(r1), runs.run(r2));
                 if r1 == r2 || twin[r1] || twin[r2] || a.len() != 1 || b.len() != 1 {
                     continue;
                 }
@@ -720,41 +798,43 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     }
     if twins > 0 {
         out.duplicates += twins;
-        let kept: Vec<(Vec<Segment>, usize)> = runs
+        // Back in drawing order.
+        let kept: Vec<(Vec<Segment>, usize)> = rank
             .iter()
-            .zip(&twin)
-            .filter(|(_, &t)| !t)
-            .map(|(r, _)| r.clone())
+            .map(|&k| k as usize)
+            .filter(|&k| !twin[k])
+            .map(|k| (runs.run(k).to_vec(), runs.piece[k] as usize))
             .collect();
         return link(kept, meta, join_gap, out);
     }
     let bbox_of = |r: &[Segment]| r.iter().fold(BBox::EMPTY, |b, s| b.union(&s.bbox()));
     let mut used = vec![false; runs.len()];
+    let drawing_order = by_first_end();
 
-    // Branches: every connected group holding a node of degree three or more is reported once.
-    for n in 0..n_nodes as u32 {
+    // Branches: every connected group holding a node of degree three or more is reported once,
+    // naming the first entity at its first branch node.
+    for &n in &drawing_order {
         if degree[n as usize] >= 3 && !touching(n).iter().all(|&r| used[r as usize]) {
             let mut bbox = BBox::EMPTY;
             let mut stack = vec![n];
-            let mut first_run = None;
             while let Some(m) = stack.pop() {
                 for &r in touching(m) {
                     if !used[r as usize] {
                         used[r as usize] = true;
-                        first_run.get_or_insert(r);
-                        bbox = bbox.union(&bbox_of(&runs[r as usize].0));
+                        bbox = bbox.union(&bbox_of(runs.run(r as usize)));
                         let (a, b) = ends[r as usize];
                         stack.push(if a == m { b } else { a });
                     }
                 }
             }
-            let r0 = first_run.unwrap_or(0) as usize;
+            let r0 = touching(n).iter().map(|&r| perm[r as usize]).min();
+            let piece = runs.piece[rank[r0.unwrap_or(0) as usize] as usize] as usize;
             out.problems.push(LoopProblem::Branch {
                 at: nodes.pos[n as usize],
                 ends: degree[n as usize] as usize,
                 bbox,
-                origin: meta[runs[r0].1].1,
-                layer: meta[runs[r0].1].0.clone(),
+                origin: meta[piece].1,
+                layer: meta[piece].0.clone(),
             });
         }
     }
@@ -762,14 +842,23 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     // Walk from node `start_node` along run `r0`, appending runs oriented head to tail with
     // their ends snapped onto the nodes; stops back at the start (a loop), at a free end, or
     // at a node that is not of degree two.
-    let walk = |start_node: u32, r0: u32, used: &mut Vec<bool>| -> (Vec<Segment>, bool) {
-        let mut out_segs: Vec<Segment> = Vec::new();
+    // (`out_segs` is a scratch buffer reused by every walk; each result gets a vector of its
+    // own size.)
+    let mut out_segs: Vec<Segment> = Vec::new();
+    // Also returns where the walk took the run that comes first in the drawing: its number,
+    // whether it went forward, and the range of its segments in the result.
+    let mut walk = |start_node: u32,
+                    r0: u32,
+                    used: &mut Vec<bool>|
+     -> (Vec<Segment>, bool, (usize, bool, usize, usize)) {
+        out_segs.clear();
         let mut node = start_node;
         let mut r = r0;
+        let mut earliest = (u32::MAX, 0, true, 0, 0);
         loop {
             used[r as usize] = true;
             let (a, b) = ends[r as usize];
-            let run = &runs[r as usize].0;
+            let run = runs.run(r as usize);
             let first = out_segs.len();
             let next = if a == node {
                 out_segs.extend_from_slice(run);
@@ -782,44 +871,121 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             out_segs[first] = snapped(out_segs[first], from, out_segs[first].end());
             let last = out_segs.len() - 1;
             out_segs[last] = snapped(out_segs[last], out_segs[last].start(), to);
+            if perm[r as usize] < earliest.0 {
+                earliest = (perm[r as usize], r as usize, a == node, first, last + 1);
+            }
             node = next;
+            let found = (earliest.1, earliest.2, earliest.3, earliest.4);
             if node == start_node {
-                return (out_segs, true);
+                return (out_segs.clone(), true, found);
             }
             if degree[node as usize] != 2 {
-                return (out_segs, false);
+                return (out_segs.clone(), false, found);
             }
             match touching(node).iter().find(|&&t| !used[t as usize]) {
                 Some(&t) => r = t,
-                None => return (out_segs, false),
+                None => return (out_segs.clone(), false, found),
             }
         }
     };
 
     // Open chains start at free ends.
     let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
-    for n in 0..n_nodes as u32 {
+    for &n in &drawing_order {
         if degree[n as usize] == 1 {
             let r = touching(n)[0];
             if !used[r as usize] {
-                let (run, _) = walk(n, r, &mut used);
-                open.push((run, runs[r as usize].1));
+                let (run, _, _) = walk(n, r, &mut used);
+                open.push((run, runs.piece[r as usize] as usize));
             }
         }
     }
-    // What is left runs through nodes of degree two only: closed loops.
-    for r in 0..runs.len() {
-        if !used[r] {
-            let (run, closed) = walk(ends[r].0, r as u32, &mut used);
-            let (layer, origin) = &meta[runs[r].1];
+    // What is left runs through nodes of degree two only: closed loops. They are found in
+    // the order of the runs in memory (in drawing order, each would start a cache miss), and
+    // each is then turned to start with its first run in the drawing, going forward along it,
+    // and they are listed in the order of those runs.
+    let mut found: Vec<(u32, Loop)> = Vec::new();
+    for k in 0..runs.len() {
+        if !used[k] {
+            let (mut run, closed, (first, forward, from, to)) =
+                walk(ends[k].0, k as u32, &mut used);
+            let piece = runs.piece[first] as usize;
+            let (layer, origin) = &meta[piece];
             if closed {
-                out.loops.push(close_up(run, layer.clone(), *origin));
+                if forward {
+                    run.rotate_left(from);
+                } else {
+                    run.reverse();
+                    for s in &mut run {
+                        *s = s.reversed();
+                    }
+                    let at = run.len() - to;
+                    run.rotate_left(at);
+                }
+                found.push((perm[first], close_up(run, layer.clone(), *origin)));
             } else {
-                open.push((run, runs[r].1));
+                open.push((run, piece));
             }
         }
     }
+    found.sort_unstable_by_key(|(first, _)| *first);
+    out.loops.extend(found.into_iter().map(|(_, l)| l));
     classify_open(open, meta, out);
+}
+
+/// Runs of segments in one array: run k is `segs[start[k]..start[k + 1]]`, from piece
+/// `piece[k]`.
+struct Runs {
+    segs: Vec<Segment>,
+    start: Vec<u32>,
+    piece: Vec<u32>,
+}
+
+impl Runs {
+    /// The runs `runs[order[0]]`, `runs[order[1]]`, ... copied into one array.
+    fn gather(runs: &[(Vec<Segment>, usize)], order: &[u32]) -> Runs {
+        let total = runs.iter().map(|(r, _)| r.len()).sum();
+        let mut sorted = Runs {
+            segs: Vec::with_capacity(total),
+            start: Vec::with_capacity(order.len() + 1),
+            piece: Vec::with_capacity(order.len()),
+        };
+        sorted.start.push(0);
+        for &r in order {
+            let (segs, piece) = &runs[r as usize];
+            sorted.segs.extend_from_slice(segs);
+            sorted.start.push(sorted.segs.len() as u32);
+            sorted.piece.push(*piece as u32);
+        }
+        sorted
+    }
+
+    fn len(&self) -> usize {
+        self.piece.len()
+    }
+
+    fn run(&self, k: usize) -> &[Segment] {
+        &self.segs[self.start[k] as usize..self.start[k + 1] as usize]
+    }
+}
+
+/// The numbers 0..n sorted by `key` (below `keys`), equal keys in increasing order: a
+/// counting sort, linear in n + keys.
+fn counting_sort(n: usize, keys: usize, key: impl Fn(usize) -> u32) -> Vec<u32> {
+    let mut start = vec![0u32; keys + 1];
+    for i in 0..n {
+        start[key(i) as usize + 1] += 1;
+    }
+    for k in 0..keys {
+        start[k + 1] += start[k];
+    }
+    let mut order = vec![0u32; n];
+    for i in 0..n {
+        let k = key(i) as usize;
+        order[start[k] as usize] = i as u32;
+        start[k] += 1;
+    }
+    order
 }
 
 /// Decide which open chains are broken loops (errors) and which are stray geometry.
@@ -892,6 +1058,145 @@ fn classify_open(open: Vec<(Vec<Segment>, usize)>, meta: &[Meta], out: &mut Chai
                     layer: meta[info.piece].0.clone(),
                     origin: meta[info.piece].1,
                 });
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::import::{Location, Origin};
+    use crate::test_rng::{uniform, xorshift};
+
+    /// Clusters of points, each within a third of `gap` of its centre and the centres at
+    /// least four gaps apart, many of them astride the grid's cell borders; shuffled.
+    /// Returns the points and each point's cluster.
+    fn clusters(n: usize, gap: f64, seed: u64) -> (Vec<Point>, Vec<usize>) {
+        let mut u = uniform(seed);
+        let cell = 16.0 * gap;
+        let mut centres: Vec<Point> = Vec::new();
+        while centres.len() < n {
+            // On a lattice 5 gaps apart (so centres stay apart), some near cell borders.
+            let (i, j) = ((u() * 400.0) as i64, (u() * 400.0) as i64);
+            let mut c = Point::new(i as f64 * 5.0 * gap, j as f64 * 5.0 * gap);
+            if u() < 0.3 {
+                c.x = (c.x / cell).round() * cell + (u() - 0.5) * 0.5 * gap;
+            }
+            if u() < 0.3 {
+                c.y = (c.y / cell).round() * cell + (u() - 0.5) * 0.5 * gap;
+            }
+            if centres.iter().all(|o| o.dist(c) > 4.0 * gap) {
+                centres.push(c);
+            }
+        }
+        let mut pts = Vec::new();
+        let mut which = Vec::new();
+        for (k, c) in centres.iter().enumerate() {
+            for _ in 0..1 + (u() * 4.0) as usize {
+                let (r, t) = (u() * gap / 3.0, u() * std::f64::consts::TAU);
+                pts.push(Point::new(c.x + r * t.cos(), c.y + r * t.sin()));
+                which.push(k);
+            }
+        }
+        let mut next = xorshift(seed ^ 0x9e37);
+        for i in (1..pts.len()).rev() {
+            let j = (next() % (i as u64 + 1)) as usize;
+            pts.swap(i, j);
+            which.swap(i, j);
+        }
+        (pts, which)
+    }
+
+    #[test]
+    fn ends_merge_exactly_when_a_search_of_all_pairs_says_so() {
+        let gap = 0.05;
+        // 600 clusters: enough points (over 512) for the radix sort, too.
+        let (pts, which) = clusters(600, gap, 7);
+        assert!(pts.len() > 1024);
+        let nodes = merge_ends(&pts, gap);
+        for i in 0..pts.len() {
+            for j in 0..pts.len() {
+                let same = nodes.of_end[i] == nodes.of_end[j];
+                assert_eq!(same, which[i] == which[j], "points {i} and {j}");
+                assert_eq!(same, pts[i].dist(pts[j]) <= gap, "points {i} and {j}");
+            }
+            // A node sits at the first of its points in the order given.
+            let first = (0..pts.len()).find(|&k| which[k] == which[i]).unwrap();
+            assert_eq!(nodes.pos[nodes.of_end[i] as usize], pts[first]);
+        }
+        // The same on few points (the comparison sort).
+        let nodes = merge_ends(&pts[..300], gap);
+        for i in 0..300 {
+            for j in 0..300 {
+                assert_eq!(nodes.of_end[i] == nodes.of_end[j], which[i] == which[j]);
+            }
+        }
+    }
+
+    #[test]
+    fn the_radix_sort_gives_the_order_of_a_comparison_sort() {
+        for (seed, span) in [(1u64, 3i64), (2, 1000), (3, 60_000), (4, 1)] {
+            let mut next = xorshift(seed);
+            let cells: Vec<(i64, i64)> = (0..5000)
+                .map(|_| {
+                    let c = |v: u64| (v % span as u64) as i64 - span / 2 - 1_000_000_007;
+                    (c(next()), c(next()))
+                })
+                .collect();
+            let mut want: Vec<u32> = (0..cells.len() as u32).collect();
+            want.sort_by_key(|&i| (cells[i as usize], i));
+            assert_eq!(sorted_by_cell(&cells), want, "span {span}");
+        }
+    }
+
+    fn loose(segments: &[Segment]) -> Vec<Piece> {
+        segments
+            .iter()
+            .enumerate()
+            .map(|(i, s)| Piece {
+                segments: vec![*s],
+                closed: false,
+                layer: "0".into(),
+                origin: Origin {
+                    entity: "LINE",
+                    location: Location::Line(i as u64 + 1),
+                    handle: None,
+                    in_block: false,
+                },
+            })
+            .collect()
+    }
+
+    #[test]
+    fn a_loop_starts_with_its_first_entity_in_the_drawing_going_its_way() {
+        // Squares side by side in a scrambled order, their edges listed in scrambled orders
+        // and directions. The first edge listed runs one way round the square in every
+        // second square and the other way in the others, so that the walk that finds the
+        // loop meets it going either way.
+        let p = |x: f64, y: f64| Point::new(x, y);
+        let mut edges = Vec::new();
+        for k in 0..40 {
+            let x = (k * 37 % 40) as f64 * 3.0;
+            let c = [p(x, 0.0), p(x + 2.0, 0.0), p(x + 2.0, 2.0), p(x, 2.0)];
+            edges.push(if k % 2 == 0 {
+                Segment::line(c[3], c[2])
+            } else {
+                Segment::line(c[2], c[3])
+            });
+            edges.push(Segment::line(c[0], c[1]));
+            edges.push(Segment::line(c[0], c[3]));
+            edges.push(Segment::line(c[1], c[2]));
+        }
+        let chained = chain(loose(&edges), 1e-6);
+        assert_eq!(chained.loops.len(), 40);
+        for (k, l) in chained.loops.iter().enumerate() {
+            // Loops come in the order of their first entities, each starting with it.
+            assert_eq!(l.origin.location, Location::Line(4 * k as u64 + 1));
+            assert_eq!(l.segments[0], edges[4 * k]);
+            assert_eq!(l.segments.len(), 4);
+            for w in 0..4 {
+                assert_eq!(l.segments[w].end(), l.segments[(w + 1) % 4].start());
             }
         }
     }
