@@ -171,7 +171,7 @@ fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point,
         };
         match source {
             PairSource::Boxes => {
-                let _ = for_each_overlapping_pair(&all, &boxes, tol, check);
+                for_each_pair_in_groups(loops.len(), &first_item, &all, &boxes, tol, check)
             }
             #[cfg(test)]
             PairSource::All => {
@@ -185,6 +185,108 @@ fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point,
         }
     }
     bad
+}
+
+/// Calls `f` for the pairs of items (segments) whose boxes overlap within `tol`, as
+/// [`for_each_overlapping_pair`] over all of them would, but group by group: loops whose boxes
+/// overlap (directly or through others) form a group, and segments of different groups
+/// cannot meet. A sheet of many profiles side by side (a catalog sheet) then costs what its
+/// profiles cost one by one: a sweep over the whole sheet would also compare segments of
+/// profiles that lie above one another. Loop `l` holds the items
+/// `first_item[l]..first_item[l + 1]`.
+fn for_each_pair_in_groups(
+    n_loops: usize,
+    first_item: &[u32],
+    all: &BBox,
+    boxes: &[BBox],
+    tol: f64,
+    mut f: impl FnMut(u32, u32),
+) {
+    // A sheet's few loops (one profile and its holes, usually a single group) are searched
+    // at once: grouping would cost more than it saves.
+    const GROUPS_FROM: usize = 32;
+    if n_loops <= GROUPS_FROM {
+        let _ = for_each_overlapping_pair(all, boxes, tol, f);
+        return;
+    }
+    let items_of = |l: usize| first_item[l] as usize..first_item[l + 1] as usize;
+    // Each loop's box: the union of its items' boxes, so that items of loops whose boxes
+    // are apart are apart too.
+    let loop_boxes: Vec<BBox> = (0..n_loops)
+        .map(|l| {
+            boxes[items_of(l)]
+                .iter()
+                .fold(BBox::EMPTY, |a, b| a.union(b))
+        })
+        .collect();
+    // Groups by union-find (with path halving) over the overlapping pairs of loop boxes; a
+    // group's root is its lowest-numbered loop.
+    let mut parent: Vec<u32> = (0..n_loops as u32).collect();
+    fn root(parent: &mut [u32], mut i: u32) -> u32 {
+        while parent[i as usize] != i {
+            parent[i as usize] = parent[parent[i as usize] as usize];
+            i = parent[i as usize];
+        }
+        i
+    }
+    let _ = for_each_overlapping_pair(all, &loop_boxes, tol, |a, b| {
+        let (ra, rb) = (root(&mut parent, a), root(&mut parent, b));
+        if ra != rb {
+            parent[ra.max(rb) as usize] = ra.min(rb);
+        }
+    });
+    let roots: Vec<u32> = (0..n_loops as u32).map(|l| root(&mut parent, l)).collect();
+    // One group (a sheet with one profile): all items at once, numbered as they are.
+    let one_group = roots.iter().all(|&r| r == 0);
+    // Otherwise the loops of each group (a counting sort by root), then each group's items.
+    let order: Vec<u32> = if one_group {
+        Vec::new()
+    } else {
+        let mut start = vec![0u32; n_loops + 1];
+        for &r in &roots {
+            start[r as usize + 1] += 1;
+        }
+        for k in 0..n_loops {
+            start[k + 1] += start[k];
+        }
+        let mut order = vec![0u32; n_loops];
+        for (l, &r) in roots.iter().enumerate() {
+            order[start[r as usize] as usize] = l as u32;
+            start[r as usize] += 1;
+        }
+        order
+    };
+    let mut ids: Vec<u32> = Vec::new();
+    let mut group_boxes: Vec<BBox> = Vec::new();
+    let mut k = 0;
+    while k < n_loops {
+        let (group_all, items, ids) = if one_group {
+            k = n_loops;
+            (*all, boxes, &ids[..0])
+        } else {
+            let r = roots[order[k] as usize];
+            ids.clear();
+            group_boxes.clear();
+            let mut group_all = BBox::EMPTY;
+            while k < n_loops && roots[order[k] as usize] == r {
+                let l = order[k] as usize;
+                ids.extend(items_of(l).map(|i| i as u32));
+                group_boxes.extend_from_slice(&boxes[items_of(l)]);
+                group_all = group_all.union(&loop_boxes[l]);
+                k += 1;
+            }
+            (group_all, &group_boxes[..], &ids[..])
+        };
+        if items.len() >= 2 {
+            let _ = for_each_overlapping_pair(&group_all, items, tol, |a, b| {
+                if ids.is_empty() {
+                    f(a, b)
+                } else {
+                    f(ids[a as usize], ids[b as usize])
+                }
+            });
+        }
+    }
 }
 
 /// Whether two places on a closed loop, each a segment index and a fraction along it, are at
@@ -1122,6 +1224,56 @@ mod tests {
         }
         // Both outcomes are well represented.
         assert!(found[0] > 300 && found[1] > 300, "{found:?}");
+    }
+
+    /// Sheets of many loops (more than the search takes at once), in separate groups that
+    /// are each a few loops crossing or not: searching group by group finds what testing
+    /// all pairs finds.
+    #[test]
+    fn many_loops_searched_group_by_group_give_the_crossings_all_pairs_give() {
+        let mut r = uniform(77);
+        let mut found = [0usize; 2]; // loops crossing something, loops clear
+        for case in 0..40 {
+            let mut loops = Vec::new();
+            let groups = 20 + case % 20;
+            for g in 0..groups {
+                // Group centres on a grid 40 apart; two to four loops about each, some of
+                // them crossing (random points), most simple (star-shaped).
+                let (gx, gy) = ((g % 6) as f64 * 40.0, (g / 6) as f64 * 40.0);
+                for _ in 0..2 + (r() * 3.0) as usize {
+                    let (cx, cy) = (gx + 16.0 * r(), gy + 16.0 * r());
+                    let n = 3 + (r() * 20.0) as usize;
+                    let pts: Vec<Point> = if r() < 0.2 {
+                        (0..n)
+                            .map(|_| Point::new(cx + 10.0 * r(), cy + 10.0 * r()))
+                            .collect()
+                    } else {
+                        (0..n)
+                            .map(|k| {
+                                let a = TAU * (k as f64 + 0.8 * r()) / n as f64;
+                                Point::new(cx, cy) + Point::polar(a) * (1.5 + 2.5 * r())
+                            })
+                            .collect()
+                    };
+                    let bulges: Vec<f64> = (0..pts.len())
+                        .map(|_| if r() < 0.5 { 0.0 } else { 0.8 * r() - 0.4 })
+                        .collect();
+                    loops.push(test_loop(&pts, &bulges));
+                }
+            }
+            assert!(
+                loops.len() > 32,
+                "case {case}: the group search is not used"
+            );
+            let tol = 1e-6 * 300.0;
+            let boxes = crossings(&loops, tol, PairSource::Boxes);
+            let all = crossings(&loops, tol, PairSource::All);
+            assert_eq!(boxes, all, "case {case}");
+            for b in &all {
+                found[usize::from(b.is_none())] += 1;
+            }
+        }
+        assert!(found[0] > 200 && found[1] > 200, "{found:?}");
     }
 
     #[test]
