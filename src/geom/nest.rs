@@ -927,7 +927,10 @@ struct BoxGrid {
     origin: Point,
     cell: f64,
     n: i64,
-    cells: FastMap<(i64, i64), Vec<u32>>,
+    /// Boxes of cell (x, y), k = x·n + y: `members[start[k]..start[k + 1]]` (compressed rows:
+    /// one lookup and a contiguous list, where a map of vectors chased a pointer per query).
+    start: Vec<u32>,
+    members: Vec<u32>,
 }
 
 impl BoxGrid {
@@ -939,15 +942,31 @@ impl BoxGrid {
             origin: all.min,
             cell: size / n as f64,
             n,
-            cells: FastMap::default(),
+            start: vec![0; (n * n) as usize + 1],
+            members: Vec::new(),
         };
-        for (i, b) in boxes.iter().enumerate() {
-            let (x0, y0) = g.index(b.min);
-            let (x1, y1) = g.index(b.max);
-            for x in x0..=x1 {
-                for y in y0..=y1 {
-                    g.cells.entry((x, y)).or_default().push(i as u32);
-                }
+        // Cells covered by each box, counted, then filled in box order (a counting sort).
+        let spans: Vec<((i64, i64), (i64, i64))> = boxes
+            .iter()
+            .map(|b| (g.index(b.min), g.index(b.max)))
+            .collect();
+        let cells = |&((x0, y0), (x1, y1)): &((i64, i64), (i64, i64))| {
+            (x0..=x1).flat_map(move |x| (y0..=y1).map(move |y| (x * n + y) as usize))
+        };
+        for s in &spans {
+            for k in cells(s) {
+                g.start[k + 1] += 1;
+            }
+        }
+        for k in 0..(n * n) as usize {
+            g.start[k + 1] += g.start[k];
+        }
+        let mut fill = g.start.clone();
+        g.members = vec![0; g.start[(n * n) as usize] as usize];
+        for (i, s) in spans.iter().enumerate() {
+            for k in cells(s) {
+                g.members[fill[k] as usize] = i as u32;
+                fill[k] += 1;
             }
         }
         g
@@ -957,7 +976,9 @@ impl BoxGrid {
         (f(p.x, self.origin.x), f(p.y, self.origin.y))
     }
     fn candidates(&self, p: Point) -> &[u32] {
-        self.cells.get(&self.index(p)).map_or(&[], |v| v.as_slice())
+        let (x, y) = self.index(p);
+        let k = (x * self.n + y) as usize;
+        &self.members[self.start[k] as usize..self.start[k + 1] as usize]
     }
 }
 
