@@ -4,7 +4,7 @@
 //! Files are loaded in parallel with rayon, each inside `catch_unwind` so that a reader
 //! panic counts as a failed file instead of ending the run.
 //!
-//!     cargo run --release --example dxf_load -- bench-out/dxf
+//!     cargo run --release --example dxf_load -- bench-out/typical
 //!
 //! Prints `files=… entities=… failed=… panicked=… seconds=…` on one line.
 

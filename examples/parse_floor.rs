@@ -6,7 +6,7 @@
 //! The floats are summed into a checksum so that nothing is optimised away. No entity
 //! logic at all.
 //!
-//!     cargo run --release --example parse_floor -- bench-out/dxf
+//!     cargo run --release --example parse_floor -- bench-out/typical
 //!
 //! Prints `files=… bytes=… pairs=… seconds=… checksum=…` on one line.
 

@@ -1,151 +1,176 @@
 #!/usr/bin/env bash
-# Throughput benchmark: `sectio measure` against the parse floor and the `dxf` crate.
+# Throughput benchmark: `sectio measure` against the parse floor and the `dxf` crate, on three
+# sets of drawings, everything timed in the same run.
 #
-# Usage: scripts/bench.sh [N]        (N drawings, default 2000, about 77 MB)
+# Usage: scripts/bench.sh [N]      (N typical drawings, default 2000, about 77 MB)
 #
-# Builds release, generates N synthetic drawings into bench-out/dxf (kept and reused while N,
-# the seed and the generator are unchanged), then times five runs of each, best of 5 by
-# wall clock:
+# Builds release and generates (scripts/bench_gen.py; kept in bench-out/ and reused while the
+# counts, the seed and the generator are unchanged):
+#   typical  N drawings of one profile each (50-2000 outline segments, 0-12 holes, clutter);
+#   heavy    HEAVY drawings (default 20) of one profile with a 50 000-segment outline;
+#   catalog  CATALOG sheets (default 20) of 200 profiles each.
+# For each set it takes the best wall-clock time of RUNS runs (default 5) of:
 #   floor    examples/parse_floor.rs: read, split code/value pairs, parse codes and floats;
 #   dxf      examples/dxf_load.rs: load every file with the dxf crate;
-#   measure  target/release/sectio measure bench-out/dxf -o bench-out/result.csv.
-# Environment: SEED (default 1); MEASURE_ARGS (default "--layer PROFILE" when `measure`
-# has a --layer option: every bench sheet keeps its profile on PROFILE, and its title
-# frame is a closed loop of LINEs on TITLE).
-# Targets, printed beside the figures: measure within 1.5x the floor's time, and at least
-# 5x faster than the dxf crate's load. MB are 10^6 bytes.
+#   measure  target/release/sectio measure SET -o bench-out/result.csv (all cores);
+#   measure-j1  the same on one thread,
+# with the peak memory (maximum resident set) of that run, and prints files/s, profiles/s,
+# segments/s, MB/s and peak MB, then the ratios against issue 10's targets:
+#   measure within 1.3x the floor's time; at least 8x faster than the dxf crate's load;
+#   with both cores at least 1.8x the single-core throughput.
+# Last, unless MANY=0: peak memory of one `measure` over MANY files (default 100 000: folders
+# of symbolic links to the typical drawings), target under 300 MB.
+# Environment: SEED (default 1), HEAVY, CATALOG, MANY, RUNS; MEASURE_ARGS (default
+# "--layer PROFILE": every bench sheet keeps its profiles on PROFILE). MB are 10^6 bytes.
 set -euo pipefail
 
 cd "$(dirname "${BASH_SOURCE[0]}")/.."
 
 N="${1:-2000}"
 SEED="${SEED:-1}"
+HEAVY="${HEAVY:-20}"
+CATALOG="${CATALOG:-20}"
+MANY="${MANY:-100000}"
+RUNS="${RUNS:-5}"
+MEASURE_ARGS="${MEASURE_ARGS---layer PROFILE}"
 OUT=bench-out
-DXF_DIR="$OUT/dxf"
-RUNS=5
 
-if ! [[ "$N" =~ ^[0-9]+$ ]] || [[ "$N" -eq 0 ]]; then
-    echo "usage: scripts/bench.sh [N]   (N a positive number of drawings)" >&2
+for v in N HEAVY CATALOG MANY RUNS; do
+    if ! [[ "${!v}" =~ ^[0-9]+$ ]]; then
+        echo "usage: scripts/bench.sh [N]   ($v must be a whole number, not '${!v}')" >&2
+        exit 2
+    fi
+done
+if [[ "$N" -eq 0 || "$RUNS" -eq 0 ]]; then
+    echo "usage: scripts/bench.sh [N]   (N and RUNS must be positive)" >&2
     exit 2
 fi
+command -v /usr/bin/time >/dev/null || { echo "bench.sh needs GNU time (/usr/bin/time) for peak memory" >&2; exit 2; }
 
 echo "== build (release)"
 cargo build --release --examples --bins
+sectio=target/release/sectio
 
-echo "== drawings"
-mkdir -p "$OUT"
-stamp="n=$N seed=$SEED generator=$(cat scripts/bench_gen.py scripts/make_demo.py | cksum | cut -d' ' -f1)"
-if [[ -f "$OUT/stamp" && "$(cat "$OUT/stamp")" == "$stamp" && -d "$DXF_DIR" ]]; then
-    echo "reusing $DXF_DIR ($stamp)"
-else
-    rm -rf "$DXF_DIR" "$OUT/stamp"
-    python3 scripts/bench_gen.py "$N" "$DXF_DIR" --seed "$SEED"
-    echo "$stamp" >"$OUT/stamp"
-fi
-files=$(find "$DXF_DIR" -name '*.dxf' | wc -l)
-bytes=$(find "$DXF_DIR" -name '*.dxf' -printf '%s\n' | awk '{s += $1} END {printf "%d", s}')
-mb=$(awk -v b="$bytes" 'BEGIN {printf "%.1f", b / 1e6}')
-echo "$files files, $mb MB"
+# make_set NAME DIR COUNT KIND: generate (or reuse) COUNT drawings of KIND into DIR; the
+# generator's totals line is kept in DIR.totals.
+make_set() {
+    local name=$1 dir=$2 count=$3 kind=$4 stamp
+    stamp="n=$count kind=$kind seed=$SEED generator=$(cat scripts/bench_gen.py scripts/make_demo.py | cksum | cut -d' ' -f1)"
+    if [[ -f "$dir.stamp" && "$(cat "$dir.stamp")" == "$stamp" && -d "$dir" && -f "$dir.totals" ]]; then
+        echo "$name: reusing $dir"
+    else
+        rm -rf "$dir" "$dir.stamp" "$dir.totals"
+        python3 scripts/bench_gen.py "$count" "$dir" --seed "$SEED" --kind "$kind" | tail -n 1 >"$dir.totals"
+        echo "$stamp" >"$dir.stamp"
+        echo "$name: $(cat "$dir.totals")"
+    fi
+}
 
-# best_of NAME CMD...: runs CMD $RUNS times, keeps the fastest wall-clock time in
-# secs[NAME] and the output of that run in $OUT/NAME.log. A run that exits with a status
-# above 1 (1 is `measure`'s "some profiles failed") stops the timing of NAME: secs[NAME]
-# stays unset and status[NAME] says why, so the table shows it and the script goes on.
-declare -A secs status
+# total NAME KEY: a figure of the set's totals line ("totals: files=... profiles=...").
+total() { sed -n "s/.* $2=\([0-9]*\).*/\1/p" "$OUT/$1.totals"; }
+
+declare -A secs peak status
+# best_of KEY CMD...: runs CMD $RUNS times; keeps the fastest wall-clock time in secs[KEY] and
+# that run's peak memory (kB) in peak[KEY]. A run that exits above 1 (1 is `measure`'s "some
+# profiles failed") stops the timing of KEY and is reported in status[KEY].
 best_of() {
-    local name=$1 best="" t0 t1 t rc
+    local key=$1 best="" t0 t1 t rc
     shift
     for _ in $(seq "$RUNS"); do
         t0=$(date +%s.%N)
         rc=0
-        "$@" >"$OUT/$name.run.log" 2>&1 || rc=$?
+        /usr/bin/time -f "%M" -o "$OUT/mem.txt" "$@" >"$OUT/run.log" 2>&1 || rc=$?
         t1=$(date +%s.%N)
         if [[ $rc -gt 1 ]]; then
-            status[$name]="failed (exit $rc)"
-            echo "$name failed (exit $rc); last lines of its output:" >&2
-            tail -n 5 "$OUT/$name.run.log" >&2
+            status[$key]="failed (exit $rc)"
+            echo "$key failed (exit $rc); last lines of its output:" >&2
+            tail -n 5 "$OUT/run.log" >&2
             return 0
         fi
         t=$(awk -v a="$t0" -v b="$t1" 'BEGIN {printf "%.4f", b - a}')
         if [[ -z "$best" ]] || awk -v t="$t" -v b="$best" 'BEGIN {exit !(t < b)}'; then
             best=$t
-            mv "$OUT/$name.run.log" "$OUT/$name.log"
+            peak[$key]=$(tail -n 1 "$OUT/mem.txt")
         fi
-        status[$name]=$([[ $rc -eq 0 ]] && echo ok || echo "ok (exit 1: some profiles failed)")
     done
-    rm -f "$OUT/$name.run.log"
-    secs[$name]=$best
-    echo "$name: best of $RUNS ${best}s  | $(tail -n 1 "$OUT/$name.log")"
+    secs[$key]=$best
+    status[$key]=ok
 }
 
-echo "== timing (best of $RUNS, wall clock)"
-best_of floor target/release/examples/parse_floor "$DXF_DIR"
-best_of dxf target/release/examples/dxf_load "$DXF_DIR"
-
-sectio=target/release/sectio
-measure_rows=""
-rm -f "$OUT/result.csv"
-# A binary without the subcommand (or a stub that prints nothing) counts as missing.
-if [[ -x "$sectio" ]] && help=$("$sectio" measure --help 2>&1) && [[ -n "$help" ]]; then
-    if [[ -z "${MEASURE_ARGS+set}" ]]; then
-        MEASURE_ARGS=""
-        if grep -q -- '--layer' <<<"$help"; then
-            MEASURE_ARGS="--layer PROFILE"
-        fi
-    fi
-    # shellcheck disable=SC2086  # MEASURE_ARGS is a list of flags
-    best_of measure "$sectio" measure "$DXF_DIR" -o "$OUT/result.csv" $MEASURE_ARGS
-    if [[ -n "${secs[measure]:-}" && ! -f "$OUT/result.csv" ]]; then
-        unset 'secs[measure]'
-        status[measure]="missing (ran, but wrote no $OUT/result.csv)"
-    elif [[ -n "${secs[measure]:-}" ]]; then
-        # Data rows, and rows whose status column (when there is one) is not ok.
-        counts=$(python3 - "$OUT/result.csv" <<'EOF' || echo "? ?"
-import csv, sys
-with open(sys.argv[1], newline="") as f:
-    rows = list(csv.DictReader(f))
-status = [r.get("status") for r in rows]
-print(len(rows), sum(1 for s in status if s not in (None, "", "ok")))
-EOF
-        )
-        read -r measure_rows measure_errors <<<"$counts"
-        [[ "$measure_rows" =~ ^[0-9]+$ ]] || measure_rows=""
-        echo "measure: ${measure_rows:-?} rows, $measure_errors not ok (args: ${MEASURE_ARGS:-none})"
-        status[measure]="${status[measure]}; $measure_errors of ${measure_rows:-?} rows not ok"
-    fi
-else
-    status[measure]="missing ($sectio measure is not there yet)"
-fi
-
-echo
-echo "== results: $files files, $mb MB, seed $SEED"
-printf '%-8s %10s %10s %12s %8s  %s\n' step seconds files/s profiles/s MB/s status
-row() {
-    local name=$1 profiles=$2 s=${secs[$1]:-}
-    if [[ -z "$s" ]]; then
-        printf '%-8s %10s %10s %12s %8s  %s\n' "$name" - - - - "${status[$name]:-missing}"
-        return
-    fi
-    awk -v n="$name" -v s="$s" -v f="$files" -v p="$profiles" -v b="$bytes" -v st="${status[$name]}" \
-        'BEGIN {printf "%-8s %10.3f %10.0f %12s %8.1f  %s\n", n, s, f / s, (p == "" ? "-" : sprintf("%.0f", p / s)), b / 1e6 / s, st}'
-}
-# The generator writes one profile per drawing; measure counts the rows it wrote.
-row floor "$files"
-row dxf "$files"
-row measure "$measure_rows"
-
-echo
 ratio() { awk -v a="$1" -v b="$2" 'BEGIN {printf "%.2f", a / b}'; }
-if [[ -n "${secs[measure]:-}" && -n "${secs[floor]:-}" && -n "${secs[dxf]:-}" ]]; then
-    r1=$(ratio "${secs[measure]}" "${secs[floor]}")
-    r2=$(ratio "${secs[dxf]}" "${secs[measure]}")
-    v1=$(awk -v r="$r1" 'BEGIN {print (r <= 1.5 ? "met" : "MISSED")}')
-    v2=$(awk -v r="$r2" 'BEGIN {print (r >= 5 ? "met" : "MISSED")}')
-    printf 'measure/floor     %6s   target <= 1.5   %s\n' "$r1" "$v1"
-    printf 'dxf-load/measure  %6s   target >= 5     %s\n' "$r2" "$v2"
-else
-    echo "ratios need all three timings; measure: ${status[measure]:-missing}"
+verdict() { awk -v r="$1" -v t="$3" -v op="$2" 'BEGIN {ok = (op == "<=") ? (r <= t) : (r >= t); print ok ? "met" : "MISSED"}'; }
+
+mkdir -p "$OUT"
+echo "== drawings"
+make_set typical "$OUT/typical" "$N" typical
+make_set heavy "$OUT/heavy" "$HEAVY" heavy
+make_set catalog "$OUT/catalog" "$CATALOG" catalog
+
+summary=()
+for set in typical heavy catalog; do
+    dir="$OUT/$set"
+    [[ $(total "$set" files) -gt 0 ]] || continue
+    echo "== $set: timing (best of $RUNS, wall clock)"
+    best_of "$set floor" target/release/examples/parse_floor "$dir"
+    best_of "$set dxf" target/release/examples/dxf_load "$dir"
+    # shellcheck disable=SC2086  # MEASURE_ARGS is a list of flags
+    best_of "$set measure" "$sectio" measure "$dir" -o "$OUT/result.csv" $MEASURE_ARGS
+    # shellcheck disable=SC2086
+    best_of "$set measure-j1" "$sectio" measure "$dir" -j 1 -o "$OUT/result-j1.csv" $MEASURE_ARGS
+    rows=$(($(wc -l <"$OUT/result.csv") - 1))
+    not_ok=$(awk -F, 'NR > 1 && $3 != "ok"' "$OUT/result.csv" | wc -l)
+    files=$(total "$set" files) profiles=$(total "$set" profiles) segments=$(total "$set" segments) bytes=$(total "$set" bytes)
+    echo
+    echo "$set: $files files, $profiles profiles, $segments segments, $(awk -v b="$bytes" 'BEGIN {printf "%.1f", b / 1e6}') MB; measure wrote $rows rows, $not_ok not ok"
+    printf '%-11s %8s %9s %11s %12s %8s %8s  %s\n' step seconds files/s profiles/s segments/s MB/s "peak MB" status
+    for step in floor dxf measure measure-j1; do
+        key="$set $step" s=${secs["$set $step"]:-}
+        if [[ -z "$s" ]]; then
+            printf '%-11s %8s %9s %11s %12s %8s %8s  %s\n' "$step" - - - - - - "${status[$key]:-missing}"
+            continue
+        fi
+        awk -v n="$step" -v s="$s" -v f="$files" -v p="$profiles" -v g="$segments" -v b="$bytes" -v m="${peak[$key]}" -v st="${status[$key]}" \
+            'BEGIN {printf "%-11s %8.3f %9.0f %11.0f %12.0f %8.1f %8.1f  %s\n", n, s, f / s, p / s, g / s, b / 1e6 / s, m / 1000, st}'
+    done
+    if [[ -n "${secs["$set measure"]:-}" && -n "${secs["$set floor"]:-}" && -n "${secs["$set dxf"]:-}" && -n "${secs["$set measure-j1"]:-}" ]]; then
+        r1=$(ratio "${secs["$set measure"]}" "${secs["$set floor"]}")
+        r2=$(ratio "${secs["$set dxf"]}" "${secs["$set measure"]}")
+        r3=$(ratio "${secs["$set measure-j1"]}" "${secs["$set measure"]}")
+        printf 'measure/floor     %6s   target <= 1.3   %s\n' "$r1" "$(verdict "$r1" "<=" 1.3)"
+        printf 'dxf-load/measure  %6s   target >= 8     %s\n' "$r2" "$(verdict "$r2" ">=" 8)"
+        printf 'speed-up, 2 cores %6s   target >= 1.8   %s\n' "$r3" "$(verdict "$r3" ">=" 1.8)"
+        printf 'dxf-load/floor    %6s   (for reference)\n' "$(ratio "${secs["$set dxf"]}" "${secs["$set floor"]}")"
+        summary+=("$(printf '%-8s measure/floor %s, dxf-load/measure %s, 2-core speed-up %s' "$set" "$r1" "$r2" "$r3")")
+    fi
+    echo
+done
+
+if [[ "$MANY" -gt 0 ]]; then
+    echo "== peak memory over $MANY files (symbolic links to the typical drawings)"
+    many="$OUT/many"
+    if [[ ! -f "$many.count" || "$(cat "$many.count")" != "$MANY $N" ]]; then
+        rm -rf "$many" "$many.count"
+        python3 - "$OUT/typical" "$many" "$MANY" <<'EOF'
+import os, sys
+src, dst, many = sys.argv[1], sys.argv[2], int(sys.argv[3])
+files = sorted(f for f in os.listdir(src) if f.endswith(".dxf"))
+for i in range(many):
+    folder = os.path.join(dst, "%03d" % (i // 2000))
+    os.makedirs(folder, exist_ok=True)
+    os.symlink(os.path.abspath(os.path.join(src, files[i % len(files)])), os.path.join(folder, "f%06d.dxf" % i))
+EOF
+        echo "$MANY $N" >"$many.count"
+    fi
+    t0=$(date +%s.%N)
+    rc=0
+    # shellcheck disable=SC2086
+    /usr/bin/time -f "%M" -o "$OUT/mem.txt" "$sectio" measure "$many" -o "$OUT/result-many.csv" $MEASURE_ARGS >"$OUT/run.log" 2>&1 || rc=$?
+    t1=$(date +%s.%N)
+    kb=$(tail -n 1 "$OUT/mem.txt")
+    awk -v kb="$kb" -v n="$MANY" -v t0="$t0" -v t1="$t1" -v rc="$rc" 'BEGIN {
+        printf "%d files: %.1f s, peak %.1f MB (exit %d)   target < 300 MB   %s\n", n, t1 - t0, kb / 1000, rc, (kb / 1000 < 300 ? "met" : "MISSED")}'
 fi
-if [[ -n "${secs[floor]:-}" && -n "${secs[dxf]:-}" ]]; then
-    printf 'dxf-load/floor    %6s   (for reference)\n' "$(ratio "${secs[dxf]}" "${secs[floor]}")"
-fi
+
+echo
+echo "== summary (machine: $(nproc) cores, $(awk -F: '/model name/ {print $2; exit}' /proc/cpuinfo | sed 's/^ *//'))"
+printf '%s\n' "${summary[@]}"

@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Generate synthetic profile drawings for the throughput benchmark.
 
-Usage: python3 scripts/bench_gen.py N OUTDIR [--seed S]
+Usage: python3 scripts/bench_gen.py N OUTDIR [--seed S] [--kind typical|heavy|catalog]
 
 Writes OUTDIR/bench-00000.dxf ... in the same ASCII DXF dialect as the demo drawings
 (scripts/make_demo.py supplies the writer). Each drawing is typical of a real sheet: one
@@ -18,6 +18,13 @@ than about 40° to the tangent, so small bulges (|bulge| <= 0.12) cannot make it
 The holes stay within 0.75 of the smallest outline radius and apart from each other, so
 nothing crosses. The same N and seed give the same bytes; file i depends only on (seed, i).
 At N = 2000 the files total about 77 MB (about 38 KB each).
+
+--kind heavy: each drawing holds one detailed profile whose outline has 50 000 segments
+(a fine gear-like loop, as a polyline or loose entities) with its holes and the same clutter.
+--kind catalog: each drawing is a catalog sheet of 200 typical profiles (50-400 outline
+segments each) in a 20 x 10 grid, each with its holes, centre lines and a label.
+The last line printed gives the totals: files, profiles, segments (outline and hole
+segments, a circle counting as one) and bytes.
 """
 
 import argparse
@@ -118,15 +125,30 @@ def shifted(verts, dx, dy):
     return [(x + dx, y + dy, b) for x, y, b in verts]
 
 
-def drawing(seed, index):
-    rng = random.Random("sectio-bench:%d:%d" % (seed, index))
+def drawing(seed, index, kind="typical"):
+    """One drawing and its count of profile segments."""
+    rng = random.Random("sectio-bench:%s%d:%d" % ("" if kind == "typical" else kind + ":", seed, index))
     r12 = rng.random() < 0.1
     dxf = DxfWriter("AC1009", None) if r12 else DxfWriter("AC1015", 4)
     dxf.layer("PROFILE", 4)
+    if kind == "catalog":
+        return catalog_sheet(rng, dxf, r12, index)
     cx, cy = rng.uniform(0.0, 3000.0), rng.uniform(0.0, 3000.0)
+    n = HEAVY_SEGMENTS if kind == "heavy" else segment_count(rng)
+    bbox, r_max, segments = profile(rng, dxf, r12, (cx, cy), n)
+    clutter(rng, dxf, (cx, cy), r_max, bbox, index, n)
+    return dxf, segments
 
-    n = segment_count(rng)
+
+HEAVY_SEGMENTS = 50000
+
+
+def profile(rng, dxf, r12, centre, n):
+    """Write one profile with an outline of n segments and its holes about `centre`; return
+    its box, its largest radius and its number of segments."""
+    cx, cy = centre
     pts, r_min = outline(rng, n)
+    segments = n
     p_arc = rng.uniform(0.1, 0.6)
     verts = [(x + cx, y + cy, rng.uniform(0.02, 0.12) * rng.choice((-1.0, 1.0)) if rng.random() < p_arc else 0.0) for x, y in pts]
     if rng.random() < 0.6:
@@ -154,15 +176,21 @@ def drawing(seed, index):
     for h in hole_shapes(rng, r_min):
         if h[0] == "circle":
             dxf.circle("PROFILE", (h[1][0] + cx, h[1][1] + cy), h[2])
-        elif r12:
-            dxf.polyline2d("PROFILE", shifted(h[1], cx, cy))
+            segments += 1
         else:
-            dxf.lwpolyline("PROFILE", shifted(h[1], cx, cy))
-
-    # Clutter, roughly as much as a real sheet carries.
+            segments += len(h[1])
+            if r12:
+                dxf.polyline2d("PROFILE", shifted(h[1], cx, cy))
+            else:
+                dxf.lwpolyline("PROFILE", shifted(h[1], cx, cy))
     r_max = max(math.hypot(x, y) for x, y in pts)
-    bbox = (cx - r_max, cy - r_max, cx + r_max, cy + r_max)
-    centre_lines(dxf, (cx, cy), r_max, r_max)
+    return (cx - r_max, cy - r_max, cx + r_max, cy + r_max), r_max, segments
+
+
+def clutter(rng, dxf, centre, r_max, bbox, index, n):
+    """Centre lines, dimensions, notes and a title frame, roughly as much as a real sheet
+    carries."""
+    centre_lines(dxf, centre, r_max, r_max)
     dim_linear(dxf, (bbox[0], bbox[1]), (bbox[2], bbox[1]), -8.0)
     dim_linear(dxf, (bbox[2], bbox[1]), (bbox[2], bbox[3]), 8.0)
     dxf.layer("NOTES", 2)
@@ -170,7 +198,28 @@ def drawing(seed, index):
         dxf.text("NOTES", (bbox[0] + 5.0 * k, bbox[3] + 12.0 + 4.0 * k), 2.5, "NOTE %d: DEBURR ALL EDGES, BREAK CORNERS 0.2" % (k + 1))
     dxf.mtext("NOTES", (bbox[0], bbox[1] - 20.0), 2.5, 80.0, "BENCH SHEET %05d\\PSEGMENTS %d\\PTOLERANCES PER SHOP STANDARD" % (index, n))
     sheet(dxf, bbox, "HV-B%05d" % index, "BENCH PROFILE")
-    return dxf
+
+
+CATALOG_COLUMNS, CATALOG_ROWS = 20, 10
+
+
+def catalog_sheet(rng, dxf, r12, index):
+    """A catalog sheet: 200 profiles of 50-400 outline segments in a grid, each with centre
+    lines and a label, one title frame round them all."""
+    pitch = 500.0
+    segments = 0
+    dxf.layer("NOTES", 2)
+    for k in range(CATALOG_COLUMNS * CATALOG_ROWS):
+        c = ((k % CATALOG_COLUMNS) * pitch, (k // CATALOG_COLUMNS) * pitch)
+        n = min(400, int(50 * 8 ** (rng.random() ** 2.0)))
+        # outline() draws radii up to 150 mm x 1.35 (its waves): 500 mm apart stays clear.
+        bbox, r, s = profile(rng, dxf, r12, c, n)
+        segments += s
+        centre_lines(dxf, c, r, r)
+        dxf.text("NOTES", (bbox[0], bbox[1] - 12.0), 5.0, "PROFILE %05d-%03d" % (index, k))
+    all_box = (-pitch / 2, -pitch / 2, (CATALOG_COLUMNS - 0.5) * pitch, (CATALOG_ROWS - 0.5) * pitch)
+    sheet(dxf, all_box, "HV-C%05d" % index, "BENCH CATALOG SHEET")
+    return dxf, segments
 
 
 def main():
@@ -178,15 +227,20 @@ def main():
     ap.add_argument("n", type=int, help="number of drawings")
     ap.add_argument("outdir", help="output folder (created if missing)")
     ap.add_argument("--seed", type=int, default=1, help="random seed (default 1)")
+    ap.add_argument("--kind", choices=("typical", "heavy", "catalog"), default="typical", help="what each drawing holds (default typical)")
     args = ap.parse_args()
     os.makedirs(args.outdir, exist_ok=True)
-    total = 0
+    total = segments = 0
+    per_file = CATALOG_COLUMNS * CATALOG_ROWS if args.kind == "catalog" else 1
     for i in range(args.n):
-        text = drawing(args.seed, i).to_string()
+        dxf, s = drawing(args.seed, i, args.kind)
+        text = dxf.to_string()
         with open(os.path.join(args.outdir, "bench-%05d.dxf" % i), "w", encoding="ascii", newline="\n") as f:
             f.write(text)
         total += len(text)
+        segments += s
     print("wrote %d files, %.1f MB (%d bytes) to %s" % (args.n, total / 1e6, total, args.outdir))
+    print("totals: files=%d profiles=%d segments=%d bytes=%d" % (args.n, args.n * per_file, segments, total))
     return 0
 
 
