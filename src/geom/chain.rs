@@ -550,7 +550,8 @@ fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
     let margin = join_gap / cell;
     let gap2 = join_gap * join_gap;
     let cell_of = |p: &Point| (floor_i64(p.x * inv_cell), floor_i64(p.y * inv_cell));
-    let order = sorted_by_cell(&points.iter().map(cell_of).collect::<Vec<_>>());
+    // (point, its cell), in the order of the cells.
+    let sorted = sorted_by_cell(&points.iter().map(cell_of).collect::<Vec<_>>());
 
     let mut of_end = vec![NONE; n];
     let mut pos: Vec<Point> = Vec::with_capacity(n);
@@ -560,7 +561,7 @@ fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
     let mut cur_col: Option<i64> = None;
     let mut i = 0;
     while i < n {
-        let (cx, cy) = cell_of(&points[order[i] as usize]);
+        let (cx, cy) = sorted[i].1;
         if cur_col != Some(cx) {
             std::mem::swap(&mut prev, &mut cur);
             if cur_col.is_none_or(|c| c.wrapping_add(1) != cx) {
@@ -581,11 +582,18 @@ fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
                 .ok()
                 .map(|k| (prev[k].1, prev[k].2))
         };
-        while i < n && cell_of(&points[order[i] as usize]) == (cx, cy) {
-            let e = order[i];
+        while i < n && sorted[i].1 == (cx, cy) {
+            let e = sorted[i].0;
             let p = points[e as usize];
             // Where in its cell the point lies (0..1 across, each way).
             let (rx, ry) = (p.x * inv_cell - cx as f64, p.y * inv_cell - cy as f64);
+            // Most points meet one other exactly (two entities' shared vertex), usually the
+            // one just filed: then that node is the nearest, at distance 0.
+            if pos.len() as u32 > first && pos[pos.len() - 1] == p {
+                of_end[e as usize] = pos.len() as u32 - 1;
+                i += 1;
+                continue;
+            }
             let mut best: Option<(f64, u32)> = None;
             let mut look = |nodes: (u32, u32), pos: &[Point]| {
                 for id in nodes.0..nodes.1 {
@@ -636,14 +644,15 @@ fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
     Nodes { of_end, pos }
 }
 
-/// The indices of `cells` sorted by cell (column, then row), equal cells in index order.
+/// The indices of `cells` with their cells, sorted by cell (column, then row), equal cells in
+/// index order.
 ///
 /// A stable least-significant-digit radix sort (common practice) of words holding a cell's
 /// offset from the lowest column and row above the index: eight bytes an entry and linear
 /// in the number of points, so the sweep in [`merge_ends`] stays linear too. A comparison
-/// sort gives the same order for few points, or when the offsets need more than 32 bits
+/// sort gives the same order for very few points, or when the offsets need more than 32 bits
 /// (over 65 536 cells each way).
-fn sorted_by_cell(cells: &[(i64, i64)]) -> Vec<u32> {
+fn sorted_by_cell(cells: &[(i64, i64)]) -> Vec<(u32, (i64, i64))> {
     let n = cells.len();
     let (mut lo, mut hi) = ((i64::MAX, i64::MAX), (i64::MIN, i64::MIN));
     for &(cx, cy) in cells {
@@ -652,9 +661,13 @@ fn sorted_by_cell(cells: &[(i64, i64)]) -> Vec<u32> {
     }
     let bits = |lo: i64, hi: i64| 64 - (hi.wrapping_sub(lo) as u64).leading_zeros();
     let (bx, by) = (bits(lo.0, hi.0), bits(lo.1, hi.1));
-    if n < 512 || bx + by > 32 {
-        let mut order: Vec<u32> = (0..n as u32).collect();
-        order.sort_unstable_by_key(|&i| (cells[i as usize], i));
+    if n < 64 || bx + by > 32 {
+        let mut order: Vec<(u32, (i64, i64))> = cells
+            .iter()
+            .enumerate()
+            .map(|(i, &c)| (i as u32, c))
+            .collect();
+        order.sort_unstable_by_key(|&(i, c)| (c, i));
         return order;
     }
     let mut items: Vec<u64> = cells
@@ -689,7 +702,20 @@ fn sorted_by_cell(cells: &[(i64, i64)]) -> Vec<u32> {
         std::mem::swap(&mut items, &mut spare);
         shift += DIGIT;
     }
-    items.into_iter().map(|k| k as u32).collect()
+    // The cell back from the key: `by` bits of row above the index, the column above those.
+    let row_mask = 1u64.checked_shl(by).map_or(u64::MAX, |b| b - 1);
+    items
+        .into_iter()
+        .map(|k| {
+            let key = k >> 32;
+            let col = key.checked_shr(by).unwrap_or(0);
+            let row = key & row_mask;
+            (
+                k as u32,
+                (lo.0.wrapping_add(col as i64), lo.1.wrapping_add(row as i64)),
+            )
+        })
+        .collect()
 }
 
 fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mut Chained) {
@@ -842,8 +868,7 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     // Walk from node `start_node` along run `r0`, appending runs oriented head to tail with
     // their ends snapped onto the nodes; stops back at the start (a loop), at a free end, or
     // at a node that is not of degree two.
-    // (`out_segs` is a scratch buffer reused by every walk; each result gets a vector of its
-    // own size.)
+    // (`out_segs` collects the walk's segments; the result takes it.)
     let mut out_segs: Vec<Segment> = Vec::new();
     // Also returns where the walk took the run that comes first in the drawing: its number,
     // whether it went forward, and the range of its segments in the result.
@@ -877,14 +902,14 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             node = next;
             let found = (earliest.1, earliest.2, earliest.3, earliest.4);
             if node == start_node {
-                return (out_segs.clone(), true, found);
+                return (std::mem::take(&mut out_segs), true, found);
             }
             if degree[node as usize] != 2 {
-                return (out_segs.clone(), false, found);
+                return (std::mem::take(&mut out_segs), false, found);
             }
             match touching(node).iter().find(|&&t| !used[t as usize]) {
                 Some(&t) => r = t,
-                None => return (out_segs.clone(), false, found),
+                None => return (std::mem::take(&mut out_segs), false, found),
             }
         }
     };
@@ -900,12 +925,16 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             }
         }
     }
-    // What is left runs through nodes of degree two only: closed loops. They are found in
-    // the order of the runs in memory (in drawing order, each would start a cache miss), and
-    // each is then turned to start with its first run in the drawing, going forward along it,
-    // and they are listed in the order of those runs.
+    // What is left runs through nodes of degree two only: closed loops, each starting with its
+    // first run in the drawing, going forward along it, listed in the order of those runs.
+    // A large drawing's loops are found in the order of the runs in memory (in drawing order,
+    // each would start with a cache miss) and then turned to start right; a small one's in
+    // drawing order, where each walk starts right.
+    const MEMORY_ORDER_FROM: usize = 4096;
+    let memory_order = runs.len() >= MEMORY_ORDER_FROM;
     let mut found: Vec<(u32, Loop)> = Vec::new();
-    for k in 0..runs.len() {
+    for (step, &r) in rank.iter().enumerate() {
+        let k = if memory_order { step } else { r as usize };
         if !used[k] {
             let (mut run, closed, (first, forward, from, to)) =
                 walk(ends[k].0, k as u32, &mut used);
@@ -1144,9 +1173,17 @@ mod tests {
                     (c(next()), c(next()))
                 })
                 .collect();
-            let mut want: Vec<u32> = (0..cells.len() as u32).collect();
-            want.sort_by_key(|&i| (cells[i as usize], i));
+            let mut want: Vec<(u32, (i64, i64))> = (0..cells.len() as u32)
+                .map(|i| (i, cells[i as usize]))
+                .collect();
+            want.sort_by_key(|&(i, c)| (c, i));
             assert_eq!(sorted_by_cell(&cells), want, "span {span}");
+            assert_eq!(sorted_by_cell(&cells[..40]), {
+                let mut w: Vec<(u32, (i64, i64))> =
+                    (0..40).map(|i| (i, cells[i as usize])).collect();
+                w.sort_by_key(|&(i, c)| (c, i));
+                w
+            });
         }
     }
 
@@ -1173,30 +1210,33 @@ mod tests {
         // Squares side by side in a scrambled order, their edges listed in scrambled orders
         // and directions. The first edge listed runs one way round the square in every
         // second square and the other way in the others, so that the walk that finds the
-        // loop meets it going either way.
+        // loop meets it going either way. 40 squares are walked in drawing order, 1100
+        // (4400 runs) in memory order and then turned.
         let p = |x: f64, y: f64| Point::new(x, y);
-        let mut edges = Vec::new();
-        for k in 0..40 {
-            let x = (k * 37 % 40) as f64 * 3.0;
-            let c = [p(x, 0.0), p(x + 2.0, 0.0), p(x + 2.0, 2.0), p(x, 2.0)];
-            edges.push(if k % 2 == 0 {
-                Segment::line(c[3], c[2])
-            } else {
-                Segment::line(c[2], c[3])
-            });
-            edges.push(Segment::line(c[0], c[1]));
-            edges.push(Segment::line(c[0], c[3]));
-            edges.push(Segment::line(c[1], c[2]));
-        }
-        let chained = chain(loose(&edges), 1e-6);
-        assert_eq!(chained.loops.len(), 40);
-        for (k, l) in chained.loops.iter().enumerate() {
-            // Loops come in the order of their first entities, each starting with it.
-            assert_eq!(l.origin.location, Location::Line(4 * k as u64 + 1));
-            assert_eq!(l.segments[0], edges[4 * k]);
-            assert_eq!(l.segments.len(), 4);
-            for w in 0..4 {
-                assert_eq!(l.segments[w].end(), l.segments[(w + 1) % 4].start());
+        for squares in [40usize, 1100] {
+            let mut edges = Vec::new();
+            for k in 0..squares {
+                let x = (k * 37 % squares) as f64 * 3.0;
+                let c = [p(x, 0.0), p(x + 2.0, 0.0), p(x + 2.0, 2.0), p(x, 2.0)];
+                edges.push(if k % 2 == 0 {
+                    Segment::line(c[3], c[2])
+                } else {
+                    Segment::line(c[2], c[3])
+                });
+                edges.push(Segment::line(c[0], c[1]));
+                edges.push(Segment::line(c[0], c[3]));
+                edges.push(Segment::line(c[1], c[2]));
+            }
+            let chained = chain(loose(&edges), 1e-6);
+            assert_eq!(chained.loops.len(), squares);
+            for (k, l) in chained.loops.iter().enumerate() {
+                // Loops come in the order of their first entities, each starting with it.
+                assert_eq!(l.origin.location, Location::Line(4 * k as u64 + 1));
+                assert_eq!(l.segments[0], edges[4 * k]);
+                assert_eq!(l.segments.len(), 4);
+                for w in 0..4 {
+                    assert_eq!(l.segments[w].end(), l.segments[(w + 1) % 4].start());
+                }
             }
         }
     }
