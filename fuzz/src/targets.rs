@@ -398,7 +398,10 @@ pub fn soup(data: &[u8]) -> (Drawing, Settings) {
                 } else {
                     src.point()
                 };
-                let t0 = src.angle();
+                // The start parameter turned into [0, 2π) as the DXF reader does: a raw
+                // 1e300 made every sine and cosine of the integrals a slow huge-argument
+                // reduction (a 10 s timeout of the fuzzer, not an input any reader makes).
+                let t0 = src.angle().rem_euclid(std::f64::consts::TAU);
                 let t1 = t0 + sweep(t0, src.angle()) * if src.flag() { 1.0 } else { -1.0 };
                 let e = EllipseArc {
                     center,
