@@ -1,6 +1,7 @@
 //! sectio's SVG reader against `usvg` (0.49, through resvg), an independent SVG library:
-//! on every SVG of the real corpus and the test fixtures, the elements drawn and where they
-//! are drawn must agree.
+//! on every SVG of the real corpus (`../shared/corpus/real/svg`, where it is) and of
+//! `fixtures/real/svg` (seven MIT-licensed files copied from it), the outlines drawn and their
+//! sizes on the page must agree.
 //!
 //! usvg resolves styles, `display`, `visibility`, `<use>`, `<switch>`, transforms and the page
 //! size its own way; sectio's reader does the same in f64 with exact arcs. Every subpath of
@@ -206,9 +207,10 @@ fn sectio_and_usvg_draw_the_same_elements_in_the_same_places() {
         }
     }
     assert!(report.is_empty(), "{}", report.join("\n"));
-    // The comparison ran: most of the corpus is UTF-8 (usvg reads nothing else).
+    // The comparison ran: on the seven files kept in fixtures/real/svg at least (copies from
+    // the corpus, for where ../shared is absent), and on the corpus where it is.
     assert!(
-        files.len() - unread.len() >= 20,
+        files.len() - unread.len() >= 7,
         "{} files, {unread:?} unread",
         files.len()
     );
