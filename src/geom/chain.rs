@@ -538,11 +538,11 @@ struct Nodes {
 /// the order given) and swept in that order: each takes the nearest node within `join_gap`
 /// (the lowest-numbered of equals) among those already made in its own cell and, when it lies
 /// within one gap of a cell border, in the cells across that border that come earlier;
-/// otherwise it makes a node. Two points within the gap in neighbouring
-/// cells are always matched: the later one lies within a gap of their common border and looks
-/// back across it. Sorting makes every later pass read memory in order, so the time per point
-/// stays flat from a thousand points to millions; a hash grid visited in drawing order missed
-/// the cache on nearly every lookup once a drawing outgrew it.
+/// otherwise it makes a node. So every node that could lie within the gap is looked at: one
+/// of a later cell does not exist yet, and the points of that cell look back in their turn.
+/// Sorting makes every later pass read memory in order, so the time per point stays flat from
+/// a thousand points to millions; a hash grid visited in drawing order missed the cache on
+/// nearly every lookup once a drawing outgrew it.
 fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
     let n = points.len();
     let cell = (16.0 * join_gap).max(f64::MIN_POSITIVE);
@@ -550,7 +550,7 @@ fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
     let margin = join_gap / cell;
     let gap2 = join_gap * join_gap;
     let cell_of = |p: &Point| (floor_i64(p.x * inv_cell), floor_i64(p.y * inv_cell));
-    // (point, its cell), in the order of the cells.
+    // (index of the point, its cell), in the order of the cells.
     let sorted = sorted_by_cell(&points.iter().map(cell_of).collect::<Vec<_>>());
 
     let mut of_end = vec![NONE; n];
