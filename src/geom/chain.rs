@@ -1000,7 +1000,7 @@ impl Runs {
 
 /// The numbers 0..n sorted by `key` (below `keys`), equal keys in increasing order: a
 /// counting sort, linear in n + keys.
-fn counting_sort(n: usize, keys: usize, key: impl Fn(usize) -> u32) -> Vec<u32> {
+pub(crate) fn counting_sort(n: usize, keys: usize, key: impl Fn(usize) -> u32) -> Vec<u32> {
     let mut start = vec![0u32; keys + 1];
     for i in 0..n {
         start[key(i) as usize + 1] += 1;

@@ -242,19 +242,7 @@ fn for_each_pair_in_groups(
     let order: Vec<u32> = if one_group {
         Vec::new()
     } else {
-        let mut start = vec![0u32; n_loops + 1];
-        for &r in &roots {
-            start[r as usize + 1] += 1;
-        }
-        for k in 0..n_loops {
-            start[k + 1] += start[k];
-        }
-        let mut order = vec![0u32; n_loops];
-        for (l, &r) in roots.iter().enumerate() {
-            order[start[r as usize] as usize] = l as u32;
-            start[r as usize] += 1;
-        }
-        order
+        super::chain::counting_sort(n_loops, n_loops, |l| roots[l])
     };
     let mut ids: Vec<u32> = Vec::new();
     let mut group_boxes: Vec<BBox> = Vec::new();
