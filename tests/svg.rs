@@ -545,6 +545,157 @@ fn hidden_text_and_broken_files() {
 }
 
 // ---------------------------------------------------------------------------------------------
+// What is drawn: usvg's verdict, sectio's exact geometry
+
+/// The areas of the ok rows, sorted.
+fn areas(rows: &[Outcome]) -> Vec<f64> {
+    let mut a: Vec<f64> = rows
+        .iter()
+        .map(|r| {
+            r.result
+                .clone()
+                .unwrap_or_else(|e| panic!("error row: {e}"))
+                .area
+        })
+        .collect();
+    a.sort_by(f64::total_cmp);
+    a
+}
+
+#[test]
+fn a_switch_draws_only_its_first_matching_child() {
+    // SVG 1.1 §5.8.2: <switch> renders the first direct child whose conditions hold; usvg
+    // asks for English (systemLanguage "en"). The fallback child is the one drawn.
+    let rows = measure(&svg(
+        r#"<switch><rect systemLanguage="qq" width="10" height="10"/><rect x="20" width="30" height="10"/><rect x="60" width="5" height="5"/></switch>"#,
+    ));
+    assert_eq!(areas(&rows), vec![300.0], "{rows:#?}");
+    assert!(
+        rows[0].message.contains("not drawn by usvg"),
+        "{}",
+        rows[0].message
+    );
+}
+
+#[test]
+fn style_sheets_apply_with_any_selector() {
+    // A child combinator and an attribute selector hide two of the four rectangles; a class
+    // rule turns the fill of a third off and its stroke on (an outline, still measured).
+    let rows = measure(&svg(
+        r#"<style>g > rect.ghost { display: none } rect[data-note] { visibility: hidden } .line { fill: none; stroke: black }</style>
+<g><rect class="ghost" width="10" height="10"/></g><rect data-note="x" x="20" width="10" height="10"/>
+<rect class="line" x="40" width="10" height="20"/><rect x="60" width="10" height="30"/>"#,
+    ));
+    assert_eq!(areas(&rows), vec![200.0, 300.0], "{rows:#?}");
+}
+
+#[test]
+fn markers_are_annotation_not_outlines() {
+    // Arrowhead markers on every vertex of an outline: usvg would draw each as a closed
+    // triangle beside the profile.
+    let rows = measure(&svg(
+        r#"<defs><marker id="arrow" markerWidth="10" markerHeight="10" refX="0" refY="5" orient="auto"><path d="M0,0 L10,5 L0,10 z"/></marker></defs>
+<path d="M10 10 H50 V30 H10 Z" marker-start="url(#arrow)" marker-mid="url(#arrow)" marker-end="url(#arrow)"/>"#,
+    ));
+    assert_eq!(areas(&rows), vec![800.0], "{rows:#?}");
+}
+
+#[test]
+fn a_path_only_usvg_places_keeps_usvgs_outline_with_a_note() {
+    // `transform-origin` (CSS Transforms 1, §6) is resolved by usvg, not by sectio's walk:
+    // the square turned a quarter about (50, 50) lands at x 60…80, y 10…30 (y down). The
+    // walk places it elsewhere, so its usvg outline is measured (f32: the area to ~1e-6) and
+    // the row says so.
+    let rows = measure(&svg(
+        r#"<rect x="10" y="20" width="20" height="20" transform="rotate(90)" transform-origin="50 50"/>"#,
+    ));
+    assert_eq!(rows.len(), 1, "{rows:#?}");
+    let p = rows[0].result.clone().expect("ok row");
+    assert_close!(p.area, 400.0, rel = 1e-6);
+    assert_close!(p.centroid.x, 70.0, abs = 1e-4);
+    assert_close!(p.centroid.y, 100.0 - 20.0, abs = 1e-4);
+    assert!(
+        rows[0]
+            .message
+            .contains("drawn by usvg not placed by sectio's reader")
+            && rows[0].message.contains("not drawn by usvg"),
+        "{}",
+        rows[0].message
+    );
+}
+
+#[test]
+fn a_nested_viewport_fits_its_viewbox_exactly() {
+    // SVG 1.1 §7.7-7.8: a nested <svg> at (10, 10), 20 × 20, with viewBox 0 0 10 10: a circle
+    // of radius 5 becomes one of radius 10 centred at (20, 20); viewBox 0 0 10 5 fitted by the
+    // default xMidYMid meet: scale 2, centred vertically (5 below the top), so the 10 × 5 rect
+    // covers x 40…60, y 15…25 (y down). Exact, with no note of usvg's outline.
+    let rows = measure(&svg(
+        r#"<svg x="10" y="10" width="20" height="20" viewBox="0 0 10 10"><circle cx="5" cy="5" r="5"/></svg>
+<svg x="40" y="10" width="20" height="20" viewBox="0 0 10 5"><rect width="10" height="5"/></svg>"#,
+    ));
+    assert_eq!(rows.len(), 2, "{rows:#?}");
+    let circle = rows[0].result.clone().expect("ok");
+    assert_close!(circle.area, PI * 100.0, rel = 1e-12);
+    assert_close!(circle.centroid.x, 20.0, abs = 1e-12);
+    assert_close!(circle.centroid.y, 100.0 - 20.0, abs = 1e-12);
+    let rect = rows[1].result.clone().expect("ok");
+    assert_close!(rect.area, 200.0, rel = 1e-12);
+    assert_close!(rect.bbox.min.x, 40.0, abs = 1e-12);
+    assert_close!(rect.bbox.max.y, 100.0 - 15.0, abs = 1e-12);
+    assert!(
+        rows.iter().all(|r| !r.message.contains("usvg")),
+        "{rows:#?}"
+    );
+}
+
+#[test]
+fn usvg_is_not_asked_about_astronomical_arcs() {
+    // usvg splits an arc into cubics at 0.1 user units: a radius of 1e30 would mean millions
+    // of them and a parser buffering them quadratically (found by tests/fuzz_seeded.rs). Past
+    // 1e12 user units sectio's reader decides alone, and the row says why.
+    let rows = measure(&svg(
+        r#"<path d="M0 0 A1e30 1e30 0 1 1 1e29 0 Z"/><rect x="10" y="10" width="10" height="10"/>"#,
+    ));
+    assert!(
+        rows.iter().any(|r| r
+            .message
+            .contains("usvg would turn arcs into too many curves")),
+        "{rows:#?}"
+    );
+}
+
+#[test]
+fn a_hairline_stroke_is_an_outline() {
+    // CAD programs write outlines with stroke-width 0 (a hairline); usvg paints nothing, but
+    // the outline is the drawing's content.
+    let rows = measure(&svg(
+        r#"<rect x="10" y="10" width="20" height="10" fill="none" stroke="black" stroke-width="0"/>"#,
+    ));
+    assert_eq!(areas(&rows), vec![200.0], "{rows:#?}");
+    assert!(rows[0].message.contains("hairline"), "{}", rows[0].message);
+}
+
+#[test]
+fn when_usvg_cannot_read_the_file_sectios_reader_decides_alone() {
+    // A zero page size is an error for usvg; sectio takes it as no physical size.
+    let rows = measure(
+        r#"<svg xmlns="http://www.w3.org/2000/svg" width="0" height="0" viewBox="0 0 100 100"><rect width="10" height="10"/><rect x="20" width="5" height="5" fill="none"/></svg>"#,
+    );
+    assert_eq!(rows.len(), 1, "{rows:#?}");
+    assert!(
+        rows[0].message.contains("usvg could not read the file"),
+        "{}",
+        rows[0].message
+    );
+    assert_close!(
+        rows[0].result.clone().expect("ok").area,
+        100.0 * (25.4f64 / 96.0).powi(2),
+        rel = 1e-12
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
 // The real-drawing corpus and the command line
 
 #[test]

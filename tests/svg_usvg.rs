@@ -4,7 +4,8 @@
 //! sizes on the page must agree.
 //!
 //! usvg resolves styles, `display`, `visibility`, `<use>`, `<switch>`, transforms and the page
-//! size its own way; sectio's reader does the same in f64 with exact arcs. Every subpath of
+//! size; sectio's reader takes usvg's verdict on what is drawn but places the geometry itself,
+//! in f64 with exact arcs, so this checks the placing and the pairing end to end. Every subpath of
 //! every visible path usvg draws, and every piece sectio reads, is boxed on the page (usvg:
 //! its points and 64 points along each curve through the path's absolute transform, in px at
 //! 96 per inch, converted at 25.4 / 96 mm per px; sectio: the piece's segments, in mm). Each

@@ -8,11 +8,16 @@
 //! `transform` on the way. Circles, ellipses, rounded corners and `A` commands stay true arcs,
 //! Béziers stay Béziers ([`shapes`]); nothing is flattened, so properties come out exact.
 //!
-//! Why not `usvg` (which renders SVG and resolves the same things): it keeps coordinates in
-//! f32 and turns every arc into cubics at a fixed tolerance of 0.1 user units (about 3e-4 of
-//! the area of a small circle), and its tree cannot be mapped back to the exact source
-//! elements (a `<use>` clone loses its id), so the styles would have to be re-read from the
-//! source anyway. Drawings use a small part of SVG styling; the reader resolves it directly:
+//! What is drawn is usvg's verdict ([`drawn`]): usvg keeps coordinates in f32 and turns every
+//! arc into cubics (about 3e-4 of the area of a small circle), so it cannot give the geometry,
+//! but it resolves the full CSS cascade, `<switch>`, `display`, `visibility` and the paint of
+//! every path it draws. The walk *places* every element it reaches (its exact pieces on the
+//! page), usvg's paths are paired with them by their boxes on the page ([`pair`]), and
+//! [`Reader::settle`] adds each element with the paint usvg gives it. Elements usvg does not
+//! draw are left out (noted); paths usvg draws that the walk did not place are read from
+//! usvg's outline (noted); a stroke usvg does not paint (`stroke-width: 0`, a CAD hairline) is
+//! still an outline. Markers are annotation: usvg is told not to draw them. When usvg cannot
+//! read a file, the walk's own reading of the styles decides ([`Reader::settle_alone`]):
 //! - `display:none` hides an element and its children; `visibility` (hidden, collapse) is
 //!   inherited and can be undone by a child; `<defs>`, `<symbol>`, `<clipPath>`, `<mask>`,
 //!   `<marker>` and `<pattern>` are not drawn (a `<use>` draws a symbol or element);
@@ -40,6 +45,7 @@
 //! Text is skipped and counted, images are counted. Layers are the element's `id`, or else
 //! the nearest group's `inkscape:label` or `id`.
 
+mod drawn;
 mod shapes;
 
 use std::collections::HashMap;
@@ -115,7 +121,10 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
         lines: LineIndex::new(&text),
         ids: HashMap::new(),
         css: Vec::new(),
+        css_ignored: false,
         use_stack: Vec::new(),
+        placed: Vec::new(),
+        local_extent: 0.0,
         depth: 0,
         too_deep: None,
     };
@@ -145,6 +154,24 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
                 "elements nested more than {MAX_ELEMENT_DEPTH} deep"
             )),
         ));
+    }
+    crate::time_limit::check("asking usvg what the SVG draws");
+    let verdict = if reader.local_extent > drawn::MAX_LOCAL_EXTENT {
+        Err(format!(
+            "coordinates or radii up to {:.3e} user units: usvg would turn arcs into too many curves",
+            reader.local_extent
+        ))
+    } else {
+        drawn::drawn_paths(&doc, &page)
+    };
+    match verdict {
+        Ok(drawn) => reader.settle(drawn, root),
+        Err(why) => {
+            reader.note(format!(
+                "usvg could not read the file ({why}): what is drawn was decided by sectio's reader alone"
+            ));
+            reader.settle_alone();
+        }
     }
     Ok(reader.drawing)
 }
@@ -188,6 +215,18 @@ impl LineIndex {
     }
 }
 
+/// A geometry element as the walk placed it: its pieces on the page (mm, y up), their box,
+/// and what sectio's own reading of the styles says.
+struct Placed {
+    pieces: Vec<(Vec<Segment>, bool)>,
+    bbox: BBox,
+    style: Style,
+    layer: LayerName,
+    /// Whether `--layer` / `--exclude-layer` choose its layer.
+    selected: bool,
+    origin: Origin,
+}
+
 /// The inherited paint state of an element.
 #[derive(Debug, Clone)]
 struct Style {
@@ -222,8 +261,15 @@ struct Reader<'a, 'input> {
     lines: LineIndex,
     ids: HashMap<String, Node<'a, 'input>>,
     css: Vec<CssRule>,
+    /// Whether a style sheet had selectors the walk's own styles cannot match (only said when
+    /// usvg, which matches them all, cannot read the file).
+    css_ignored: bool,
     /// `<use>` elements being followed (to stop cycles).
     use_stack: Vec<roxmltree::NodeId>,
+    /// The largest coordinate or radius of any element in its own user units.
+    local_extent: f64,
+    /// Elements placed by the walk, in document order (their pieces wait for usvg's verdict).
+    placed: Vec<Placed>,
     /// Elements open in the walk, and the first element found deeper than
     /// [`MAX_ELEMENT_DEPTH`] (its line), which makes the file an error.
     depth: usize,
@@ -314,9 +360,7 @@ impl<'a, 'input> Reader<'a, 'input> {
                 .collect();
             self.css.push(CssRule { selectors, decls });
         }
-        if ignored {
-            self.note("style sheet selectors other than tag, .class, #id and * ignored".into());
-        }
+        self.css_ignored |= ignored;
     }
 
     /// A property's specified value: the `style` attribute, then the style sheets (the most
@@ -553,8 +597,31 @@ impl<'a, 'input> Reader<'a, 'input> {
                             .unwrap_or(0.0)
                     };
                     ctm = Affine::translation(Point::new(at("x"), at("y"))).then(&ctm);
-                    if n.attribute("viewBox").is_some() {
-                        self.note("viewBox of a nested <svg> ignored".into());
+                    // A viewBox fitted into the nested viewport (SVG 1.1 §7.7-7.8), when
+                    // its width and height are absolute; otherwise (percentages, or absent:
+                    // 100 %) the walk does not place the content and usvg's outlines of it
+                    // are read instead (see `settle`).
+                    let size = |k| {
+                        n.attribute(k)
+                            .and_then(|v| Length::from_str(v).ok())
+                            .and_then(user_length)
+                            .filter(|v| *v > 0.0)
+                    };
+                    let view_box = n
+                        .attribute("viewBox")
+                        .and_then(|v| ViewBox::from_str(v).ok())
+                        .filter(|vb| vb.w > 0.0 && vb.h > 0.0);
+                    if let (Some(vb), Some(w), Some(h)) = (view_box, size("width"), size("height"))
+                    {
+                        let aspect = n
+                            .attribute("preserveAspectRatio")
+                            .and_then(|v| svgtypes::AspectRatio::from_str(v).ok())
+                            .unwrap_or_default();
+                        ctm = drawn::viewbox_fit(vb, aspect, w, h).then(&ctm);
+                    } else if n.attribute("viewBox").is_some() {
+                        self.note(
+                            "viewBox of a nested <svg> without an absolute width and height not fitted by sectio's reader".into(),
+                        );
                     }
                 }
                 let layer = n
@@ -568,20 +635,29 @@ impl<'a, 'input> Reader<'a, 'input> {
                 let layer = n
                     .attribute("id")
                     .map_or_else(|| parent_layer.clone(), LayerName::from);
-                if !self.opts.layer_selected(&layer) {
-                    self.drawing.skip(format!("layer not selected: {layer}"));
-                    return;
-                }
-                if !style.visible {
-                    self.drawing.skip("hidden (visibility)");
-                    return;
-                }
-                if !style.filled && !style.stroked {
-                    self.drawing.skip("neither filled nor stroked");
-                    return;
-                }
+                // Every element the walk reaches is placed, even one that will be left out
+                // (layer not chosen, hidden, unpainted): usvg's paths are paired with the
+                // placed elements, and one of them must not be taken for something else.
+                let selected = self.opts.layer_selected(&layer);
                 let ctm = self.local_transform(n).then(parent_ctm);
-                let subpaths = self.shape(n, name);
+                let subpaths = self.shape(n, name, selected);
+                self.local_extent = subpaths
+                    .iter()
+                    .map(shapes::local_extent)
+                    .fold(self.local_extent, f64::max);
+                let map = ctm.then(page);
+                let pieces: Vec<(Vec<Segment>, bool)> = subpaths
+                    .iter()
+                    .map(|s| (shapes::emit(s, &map, &mut self.drawing.curves), s.closed))
+                    .filter(|(segs, _)| !segs.is_empty())
+                    .collect();
+                if pieces.is_empty() {
+                    return;
+                }
+                let bbox = pieces
+                    .iter()
+                    .flat_map(|p| &p.0)
+                    .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()));
                 let entity: &'static str = match name {
                     "path" => "path",
                     "rect" => "rect",
@@ -597,7 +673,14 @@ impl<'a, 'input> Reader<'a, 'input> {
                     handle: None,
                     in_block: in_use,
                 };
-                self.add_pieces(&subpaths, &ctm.then(page), &style, layer, origin);
+                self.placed.push(Placed {
+                    pieces,
+                    bbox,
+                    style,
+                    layer,
+                    selected,
+                    origin,
+                });
             }
             "text" => self.drawing.skip("text"),
             "image" => self.drawing.skip("image"),
@@ -658,8 +741,9 @@ impl<'a, 'input> Reader<'a, 'input> {
         self.use_stack.pop();
     }
 
-    /// A shape element's subpaths in its own user units.
-    fn shape(&mut self, n: Node, name: &str) -> Vec<Subpath> {
+    /// A shape element's subpaths in its own user units; notes and counts of what is wrong
+    /// with it only when `report` (the element's layer is chosen).
+    fn shape(&mut self, n: Node, name: &str, report: bool) -> Vec<Subpath> {
         let line = self.lines.line(n.range().start);
         let num = |k: &str| -> Option<f64> {
             n.attribute(k)
@@ -670,7 +754,7 @@ impl<'a, 'input> Reader<'a, 'input> {
         match name {
             "path" => {
                 let (subs, err) = shapes::path_data(n.attribute("d").unwrap_or(""));
-                if let Some(e) = err {
+                if let (Some(e), true) = (err, report) {
                     self.note(format!(
                         "path data at line {line} ends in an error ({e}): read up to it"
                     ));
@@ -680,7 +764,9 @@ impl<'a, 'input> Reader<'a, 'input> {
             "rect" => {
                 let (w, h) = (num0("width"), num0("height"));
                 if !(w > 0.0 && h > 0.0) {
-                    self.drawing.skip("rect without area");
+                    if report {
+                        self.drawing.skip("rect without area");
+                    }
                     return Vec::new();
                 }
                 // Auto radii take the other one; both are clamped to half the sides
@@ -704,7 +790,9 @@ impl<'a, 'input> Reader<'a, 'input> {
                     }
                 };
                 if !(rx > 0.0 && ry > 0.0) {
-                    self.drawing.skip(format!("{name} with zero radius"));
+                    if report {
+                        self.drawing.skip(format!("{name} with zero radius"));
+                    }
                     return Vec::new();
                 }
                 vec![shapes::ellipse(c, rx, ry)]
@@ -723,21 +811,147 @@ impl<'a, 'input> Reader<'a, 'input> {
         }
     }
 
-    /// The subpaths as pieces under `map`; for a filled element under `nonzero`, closed
-    /// subpaths with fill on both sides are dropped (see the module doc).
+    /// usvg's verdict on every placed element (see [`drawn`]): an element paired with a path
+    /// usvg draws takes usvg's paint (filled or not, fill rule, stroked); one usvg does not
+    /// draw is left out with a note; a path usvg draws that the walk did not place keeps
+    /// usvg's outline, with a note. One exception by design: a stroke usvg does not paint
+    /// (`stroke-width: 0`, a CAD program's hairline) is still an outline.
+    fn settle(&mut self, drawn: Vec<drawn::Drawn>, root: Node) {
+        let placed = std::mem::take(&mut self.placed);
+        let partners = pair(&placed, &drawn);
+        let mut used = vec![false; drawn.len()];
+        let mut not_drawn: Vec<Origin> = Vec::new();
+        let mut hairlines = 0;
+        for (p, d) in placed.into_iter().zip(partners) {
+            if let Some(d) = d {
+                used[d] = true;
+            }
+            if !p.selected {
+                self.drawing
+                    .skip(format!("layer not selected: {}", p.layer));
+                continue;
+            }
+            let style = match d.map(|d| &drawn[d]) {
+                Some(d) if d.visible => Style {
+                    filled: d.fill.is_some(),
+                    stroked: d.stroked,
+                    evenodd: d.fill.unwrap_or(p.style.evenodd),
+                    visible: true,
+                },
+                Some(d) if d.fill.is_none() && !d.stroked && p.style.visible && p.style.stroked => {
+                    hairlines += 1;
+                    Style {
+                        filled: false,
+                        ..p.style
+                    }
+                }
+                Some(d) if d.fill.is_none() && !d.stroked && p.style.visible => {
+                    self.drawing.skip("neither filled nor stroked");
+                    continue;
+                }
+                Some(_) => {
+                    self.drawing.skip("hidden (visibility)");
+                    continue;
+                }
+                None if !p.style.visible => {
+                    self.drawing.skip("hidden (visibility)");
+                    continue;
+                }
+                None if !p.style.filled && !p.style.stroked => {
+                    self.drawing.skip("neither filled nor stroked");
+                    continue;
+                }
+                None => {
+                    self.drawing.skip("not drawn (usvg)");
+                    not_drawn.push(p.origin);
+                    continue;
+                }
+            };
+            self.add_pieces(p.pieces, &style, p.layer, p.origin);
+        }
+        if hairlines > 0 {
+            self.note(format!(
+                "{hairlines} element{} stroked with a width usvg does not paint (e.g. stroke-width 0, a CAD hairline) read as outlines",
+                if hairlines == 1 { "" } else { "s" }
+            ));
+        }
+        if let Some(first) = not_drawn.first() {
+            self.note(format!(
+                "{} element{} not drawn by usvg (e.g. an unchosen <switch> branch, a style rule that hides it, or placed where usvg does not draw it), first {first}: left out",
+                not_drawn.len(),
+                if not_drawn.len() == 1 { "" } else { "s" }
+            ));
+        }
+        let mut kept = 0;
+        for (d, used) in drawn.iter().zip(used) {
+            if used || !d.visible || d.subpaths.is_empty() {
+                continue;
+            }
+            let layer = LayerName::from(d.id.as_str());
+            if !self.opts.layer_selected(&layer) {
+                self.drawing.skip(format!("layer not selected: {layer}"));
+                continue;
+            }
+            let pieces: Vec<(Vec<Segment>, bool)> = d
+                .subpaths
+                .iter()
+                .map(|s| (shapes::emit(s, &d.map, &mut self.drawing.curves), s.closed))
+                .filter(|(segs, _)| !segs.is_empty())
+                .collect();
+            let element = self.ids.get(d.id.as_str()).copied().unwrap_or(root);
+            let origin = Origin {
+                entity: "path drawn by usvg",
+                location: Location::Line(self.lines.line(element.range().start)),
+                handle: None,
+                in_block: false,
+            };
+            let style = Style {
+                filled: d.fill.is_some(),
+                stroked: d.stroked,
+                evenodd: d.fill.unwrap_or(false),
+                visible: true,
+            };
+            self.add_pieces(pieces, &style, layer, origin);
+            kept += 1;
+        }
+        if kept > 0 {
+            self.note(format!(
+                "{kept} path{} drawn by usvg not placed by sectio's reader: read from usvg's outline (f32, arcs as cubics; not exact)",
+                if kept == 1 { "" } else { "s" }
+            ));
+        }
+    }
+
+    /// Without usvg's verdict: sectio's own reading of the styles decides.
+    fn settle_alone(&mut self) {
+        if self.css_ignored {
+            self.note("style sheet selectors other than tag, .class, #id and * ignored".into());
+        }
+        for p in std::mem::take(&mut self.placed) {
+            if !p.selected {
+                self.drawing
+                    .skip(format!("layer not selected: {}", p.layer));
+            } else if !p.style.visible {
+                self.drawing.skip("hidden (visibility)");
+            } else if !p.style.filled && !p.style.stroked {
+                self.drawing.skip("neither filled nor stroked");
+            } else {
+                self.add_pieces(p.pieces, &p.style, p.layer, p.origin);
+            }
+        }
+    }
+
+    /// An element's pieces (on the page) into the drawing, as its paint says: for a filled
+    /// element, subpaths that cross are replaced by the outline of what the fill rule fills,
+    /// and under `nonzero` closed subpaths with fill on both sides are dropped (see the
+    /// module doc).
     fn add_pieces(
         &mut self,
-        subpaths: &[Subpath],
-        map: &Affine,
+        mut pieces: Vec<(Vec<Segment>, bool)>,
         style: &Style,
         layer: LayerName,
         origin: Origin,
     ) {
-        let mut pieces: Vec<(Vec<Segment>, bool)> = subpaths
-            .iter()
-            .map(|s| (shapes::emit(s, map, &mut self.drawing.curves), s.closed))
-            .filter(|(segs, _)| !segs.is_empty())
-            .collect();
         let n_closed = pieces.iter().filter(|p| p.1).count();
         // Filled subpaths that cross each other or themselves: the outline of what the fill
         // rule fills (`geom::fill`), not the subpaths themselves.
@@ -815,6 +1029,60 @@ impl<'a, 'input> Reader<'a, 'input> {
         });
         before - pieces.len()
     }
+}
+
+/// For each placed element, the path of usvg's tree that draws it, if any: the one whose box
+/// on the page agrees on all four sides within 2e-3 of its size (usvg turns arcs into cubics,
+/// about 3e-4 of the radius off, crates.md §2) plus 2e-6 of the drawing's extent and
+/// distance from the origin (usvg's f32), the nearest when several do. Each path pairs with
+/// one element at most; copies lying on each other pair in document order.
+fn pair(placed: &[Placed], drawn: &[drawn::Drawn]) -> Vec<Option<usize>> {
+    let reach = placed
+        .iter()
+        .map(|p| p.bbox)
+        .chain(drawn.iter().map(|d| d.bbox))
+        .filter(|b| !b.is_empty())
+        .map(|b| {
+            b.width()
+                .max(b.height())
+                .max(b.min.x.abs())
+                .max(b.max.x.abs())
+                .max(b.min.y.abs())
+                .max(b.max.y.abs())
+        })
+        .fold(0.0, f64::max);
+    let mut order: Vec<usize> = (0..placed.len()).collect();
+    order.sort_by(|&a, &b| placed[a].bbox.min.x.total_cmp(&placed[b].bbox.min.x));
+    let keys: Vec<f64> = order.iter().map(|&i| placed[i].bbox.min.x).collect();
+    let mut partner = vec![None; placed.len()];
+    for (k, d) in drawn.iter().enumerate() {
+        let b = d.bbox;
+        if b.is_empty() {
+            continue;
+        }
+        let tol = 2e-3 * b.width().max(b.height()) + 2e-6 * reach;
+        let lo = keys.partition_point(|&x| x < b.min.x - tol);
+        let hi = keys.partition_point(|&x| x <= b.min.x + tol);
+        let mut best: Option<(f64, usize)> = None;
+        for &i in &order[lo..hi] {
+            if partner[i].is_some() {
+                continue;
+            }
+            let p = placed[i].bbox;
+            let off = (p.min.x - b.min.x)
+                .abs()
+                .max((p.max.x - b.max.x).abs())
+                .max((p.min.y - b.min.y).abs())
+                .max((p.max.y - b.max.y).abs());
+            if off <= tol && best.is_none_or(|(o, j)| off < o || (off == o && i < j)) {
+                best = Some((off, i));
+            }
+        }
+        if let Some((_, i)) = best {
+            partner[i] = Some(k);
+        }
+    }
+    partner
 }
 
 /// The box of one point.

@@ -361,6 +361,23 @@ pub(crate) fn poly(points: &[Point], closed: bool) -> Subpath {
     s
 }
 
+/// The largest absolute coordinate, radius or semi-axis of the subpath's edges (in its own
+/// user units).
+pub(crate) fn local_extent(sub: &Subpath) -> f64 {
+    let m = |p: &Point| p.x.abs().max(p.y.abs());
+    sub.edges
+        .iter()
+        .map(|e| match e {
+            Edge::Line(a, b) => m(a).max(m(b)),
+            Edge::Arc(arc) => m(&arc.center) + arc.radius.abs(),
+            Edge::Ellipse { arc, a, b } => {
+                (m(&arc.center) + m(&arc.u) + m(&arc.v)).max(m(a)).max(m(b))
+            }
+            Edge::Bezier(ctrl) => ctrl.iter().map(m).fold(0.0, f64::max),
+        })
+        .fold(0.0, f64::max)
+}
+
 /// The subpath's edges mapped by `f` as segments, with curve data appended to `table`.
 /// Consecutive segments meet exactly: each edge's ends are the mapped points of the file.
 pub(crate) fn emit(sub: &Subpath, f: &Affine, table: &mut CurveTable) -> Vec<Segment> {
