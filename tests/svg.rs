@@ -440,6 +440,25 @@ fn units_from_the_page_size_and_viewbox() {
 }
 
 #[test]
+fn preserve_aspect_ratio_places_the_viewbox() {
+    // A 200 mm × 100 mm page with a 100-unit square viewBox: scale 1 mm per unit either way;
+    // SVG 1.1 §7.8: xMinYMin puts the viewBox at the left edge, the default xMidYMid centres
+    // it (50 mm in), xMaxYMax puts it at the right (100 mm in).
+    for (aspect, left) in [("xMinYMin meet", 0.0), ("", 50.0), ("xMaxYMax", 100.0)] {
+        let attr = if aspect.is_empty() {
+            String::new()
+        } else {
+            format!(r#" preserveAspectRatio="{aspect}""#)
+        };
+        let p = only_ok(&format!(
+            r#"<svg xmlns="http://www.w3.org/2000/svg" width="200mm" height="100mm" viewBox="0 0 100 100"{attr}><rect width="10" height="10"/></svg>"#
+        ));
+        assert_close!(p.bbox.min.x, left, abs = 1e-12);
+        assert_close!(p.area, 100.0, rel = 1e-12);
+    }
+}
+
+#[test]
 fn no_physical_size_assumes_css_px_and_says_so() {
     // 96 px = 1 in (CSS Values and Units §6.2).
     let rows = measure(&page("", r#"<rect width="96" height="96"/>"#));

@@ -66,6 +66,25 @@ impl Affine {
         }
     }
 
+    /// The inverse map, when the matrix is not singular: m⁻¹·(p − t).
+    pub fn inverse(&self) -> Option<Affine> {
+        let det = self.det();
+        if !(det.is_finite() && det != 0.0) {
+            return None;
+        }
+        let [a, b, c, d] = self.m;
+        let m = [d / det, -b / det, -c / det, a / det];
+        let t = Affine {
+            m,
+            t: Point::default(),
+        }
+        .apply_vector(self.t);
+        Some(Affine {
+            m,
+            t: Point::new(-t.x, -t.y),
+        })
+    }
+
     pub fn translation(d: Point) -> Affine {
         Affine {
             m: [1.0, 0.0, 0.0, 1.0],
@@ -1462,6 +1481,19 @@ impl Curve {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn affine_inverse_undoes_the_map() {
+        let f = super::Affine {
+            m: [2.0, 0.5, -1.0, 3.0],
+            t: super::Point::new(4.0, -7.0),
+        };
+        let g = f.inverse().unwrap();
+        let p = super::Point::new(1.25, -3.5);
+        let q = g.apply(f.apply(p));
+        assert!((q.x - p.x).abs() < 1e-14 && (q.y - p.y).abs() < 1e-14);
+        assert!(super::Affine::scaling(0.0, 1.0).inverse().is_none());
+    }
+
     use super::*;
     use crate::test_rng::uniform;
 

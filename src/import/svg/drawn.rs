@@ -277,31 +277,6 @@ pub(super) fn bezier_bbox(ctrl: &[Point]) -> BBox {
     b
 }
 
-trait Inverse: Sized {
-    fn inverse(&self) -> Option<Self>;
-}
-
-impl Inverse for Affine {
-    /// The inverse map, when the matrix is not singular.
-    fn inverse(&self) -> Option<Affine> {
-        let det = self.det();
-        if !(det.is_finite() && det != 0.0) {
-            return None;
-        }
-        let [a, b, c, d] = self.m;
-        let m = [d / det, -b / det, -c / det, a / det];
-        let inv = Affine {
-            m,
-            t: Point::default(),
-        };
-        let t = inv.apply_vector(self.t);
-        Some(Affine {
-            m,
-            t: Point::new(-t.x, -t.y),
-        })
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -325,18 +300,5 @@ mod tests {
             Point::new(2.0, 0.0),
         ];
         assert!((bezier_bbox(&q).max.y - 0.5).abs() < 1e-15);
-    }
-
-    #[test]
-    fn inverse_undoes_the_map() {
-        let f = Affine {
-            m: [2.0, 0.5, -1.0, 3.0],
-            t: Point::new(4.0, -7.0),
-        };
-        let g = f.inverse().unwrap();
-        let p = Point::new(1.25, -3.5);
-        let q = g.apply(f.apply(p));
-        assert!((q.x - p.x).abs() < 1e-14 && (q.y - p.y).abs() < 1e-14);
-        assert!(Affine::scaling(0.0, 1.0).inverse().is_none());
     }
 }

@@ -36,8 +36,8 @@
 //! are open pieces, chained with others within the gap as DXF lines are.
 //!
 //! Units: the root's `width`/`height` (mm, cm, in, pt, pc; px and bare numbers at 96 per
-//! inch, CSS) with its `viewBox` give millimetres per user unit (`preserveAspectRatio` none
-//! or the default centred fit). Without a physical size one user unit is taken as one px,
+//! inch, CSS) with its `viewBox` give millimetres per user unit (fitted as
+//! `preserveAspectRatio` says, by default centred). Without a physical size one user unit is taken as one px,
 //! 25.4/96 mm, and the row says so; [`ReadOptions::svg_mm_per_unit`] sets the scale instead.
 //! y is flipped about the page's height (or about 0 when that is unknown), so a shape at the
 //! top of the page has the larger y.
@@ -481,21 +481,13 @@ impl<'a, 'input> Reader<'a, 'input> {
                 if wm.is_some_and(|w| w.1) || hm.is_some_and(|h| h.1) {
                     self.note(px_note.into());
                 }
-                let stretch = root
+                // The viewBox fitted into the viewport as preserveAspectRatio says (default
+                // xMidYMid meet: uniform scale, centred; SVG 1.1 §7.8).
+                let aspect = root
                     .attribute("preserveAspectRatio")
-                    .is_some_and(|p| p.trim().starts_with("none"));
-                let (sx, sy, ox, oy) = if stretch || sx == sy {
-                    (sx, sy, 0.0, 0.0)
-                } else {
-                    // Default fit: uniform scale, the viewBox centred in the viewport
-                    // (SVG 1.1 §7.8, xMidYMid meet).
-                    let s = sx.min(sy);
-                    (s, s, 0.5 * (vb.w * (sx - s)), 0.5 * (vb.h * (sy - s)))
-                };
-                let map = Affine {
-                    m: [sx, 0.0, 0.0, sy],
-                    t: Point::new(ox - vb.x * sx, oy - vb.y * sy),
-                };
+                    .and_then(|v| svgtypes::AspectRatio::from_str(v).ok())
+                    .unwrap_or_default();
+                let map = drawn::viewbox_fit(vb, aspect, vb.w * sx, vb.h * sy);
                 let page_h = hm.map_or(vb.h * sy, |h| h.0);
                 map.then(&flip(page_h))
             }
