@@ -100,9 +100,8 @@ fn drawn(p: &usvg::Path, to_page: &Affine) -> Drawn {
     let mut subpaths = Vec::new();
     let mut cur = Subpath::default();
     let (mut start, mut pos) = (Point::default(), Point::default());
-    let mut bbox = BBox::EMPTY;
     for seg in p.data().segments() {
-        let edge = match seg {
+        let (edge, end) = match seg {
             PathSegment::MoveTo(q) => {
                 if !cur.edges.is_empty() {
                     subpaths.push(std::mem::take(&mut cur));
@@ -110,9 +109,11 @@ fn drawn(p: &usvg::Path, to_page: &Affine) -> Drawn {
                 (start, pos) = (pt(q), pt(q));
                 continue;
             }
-            PathSegment::LineTo(q) => Edge::Line(pos, pt(q)),
-            PathSegment::QuadTo(c, q) => Edge::Bezier(vec![pos, pt(c), pt(q)]),
-            PathSegment::CubicTo(c1, c2, q) => Edge::Bezier(vec![pos, pt(c1), pt(c2), pt(q)]),
+            PathSegment::LineTo(q) => (Edge::Line(pos, pt(q)), pt(q)),
+            PathSegment::QuadTo(c, q) => (Edge::Bezier(vec![pos, pt(c), pt(q)]), pt(q)),
+            PathSegment::CubicTo(c1, c2, q) => {
+                (Edge::Bezier(vec![pos, pt(c1), pt(c2), pt(q)]), pt(q))
+            }
             PathSegment::Close => {
                 if pos != start {
                     cur.edges.push(Edge::Line(pos, start));
@@ -125,11 +126,20 @@ fn drawn(p: &usvg::Path, to_page: &Affine) -> Drawn {
                 continue;
             }
         };
-        match &edge {
+        if end != pos || !matches!(edge, Edge::Line(..)) {
+            cur.edges.push(edge);
+        }
+        pos = end;
+    }
+    if !cur.edges.is_empty() {
+        subpaths.push(cur);
+    }
+    // The box on the page: line ends, and Béziers' extrema after the map (an affine image of
+    // a Bézier is the Bézier of the mapped control points).
+    let mut bbox = BBox::EMPTY;
+    for e in subpaths.iter().flat_map(|s| &s.edges) {
+        match e {
             Edge::Line(a, b) => {
-                if a == b {
-                    continue;
-                }
                 bbox.add_point(map.apply(*a));
                 bbox.add_point(map.apply(*b));
             }
@@ -137,17 +147,8 @@ fn drawn(p: &usvg::Path, to_page: &Affine) -> Drawn {
                 let mapped: Vec<Point> = ctrl.iter().map(|c| map.apply(*c)).collect();
                 bbox = bbox.union(&bezier_bbox(&mapped));
             }
-            _ => {}
+            Edge::Arc(_) | Edge::Ellipse { .. } => {}
         }
-        pos = match &edge {
-            Edge::Line(_, b) => *b,
-            Edge::Bezier(ctrl) => ctrl[ctrl.len() - 1],
-            _ => pos,
-        };
-        cur.edges.push(edge);
-    }
-    if !cur.edges.is_empty() {
-        subpaths.push(cur);
     }
     Drawn {
         bbox,
