@@ -685,6 +685,42 @@ fn usvg_is_not_asked_about_astronomical_arcs() {
 }
 
 #[test]
+fn the_root_transform_applies_in_the_viewport() {
+    // SVG 2 §8.5 allows `transform` on the outermost <svg>; it applies in the viewport, in
+    // CSS px (96 per inch), about the root's transform-origin, whose initial value is the
+    // viewport's centre (CSS Transforms 1, §6). Page 100 mm with viewBox 0 0 100 (1 unit =
+    // 1 mm): scale(2) about (50, 50) takes the square x 10…20 to x −30…−10 (20 × 20);
+    // with transform-origin 0 0 to x 20…40; translate(96 0) moves it 1 in = 25.4 mm right.
+    // Exact, and paired with usvg's path (no note of usvg's outline).
+    let page = |t: &str| {
+        format!(
+            r#"<svg xmlns="http://www.w3.org/2000/svg" width="100mm" height="100mm" viewBox="0 0 100 100" {t}><rect x="10" y="10" width="10" height="10"/></svg>"#
+        )
+    };
+    for (attrs, left, top) in [
+        (r#"transform="scale(2)""#, -30.0, 100.0 + 30.0),
+        (
+            r#"transform="scale(2)" transform-origin="0 0""#,
+            20.0,
+            100.0 - 20.0,
+        ),
+        (r#"transform="translate(96 0)""#, 10.0 + 25.4, 100.0 - 10.0),
+    ] {
+        let rows = measure(&page(attrs));
+        let p = rows[0].result.clone().expect("ok");
+        let side = if attrs.contains("scale") { 20.0 } else { 10.0 };
+        assert_close!(p.area, side * side, rel = 1e-12);
+        assert_close!(p.bbox.min.x, left, abs = 1e-12);
+        assert_close!(p.bbox.max.y, top, abs = 1e-12);
+        assert!(
+            !rows[0].message.contains("usvg"),
+            "{attrs}: {}",
+            rows[0].message
+        );
+    }
+}
+
+#[test]
 fn a_hairline_stroke_is_an_outline() {
     // CAD programs write outlines with stroke-width 0 (a hairline); usvg paints nothing, but
     // the outline is the drawing's content.

@@ -182,14 +182,39 @@ fn root_transform(root: Node, w: f32, h: f32) -> Affine {
             viewbox_fit(vb, aspect, w, h)
         }
     };
-    let own = root
+    let own = root_own_transform(root, w, h, 1.0);
+    fit.then(&own)
+}
+
+/// The root's own `transform` (SVG 2 allows one) as a map of its viewport, `w` × `h` in a
+/// unit of `unit_per_px` per CSS px: about its `transform-origin`, whose initial value for
+/// the root is the viewport's centre (CSS Transforms 1, §6; usvg does the same), with the
+/// transform's lengths (CSS px) in that unit.
+pub(super) fn root_own_transform(root: Node, w: f64, h: f64, unit_per_px: f64) -> Affine {
+    let Some(t) = root
         .attribute("transform")
         .and_then(|t| Transform::from_str(t).ok())
-        .map_or(Affine::IDENTITY, |t| Affine {
-            m: [t.a, t.c, t.b, t.d],
-            t: Point::new(t.e, t.f),
-        });
-    fit.then(&own)
+    else {
+        return Affine::IDENTITY;
+    };
+    let own = Affine {
+        m: [t.a, t.c, t.b, t.d],
+        t: Point::new(t.e * unit_per_px, t.f * unit_per_px),
+    };
+    let offset = |len: svgtypes::Length, size: f64| match len.unit {
+        svgtypes::LengthUnit::Percent => len.number / 100.0 * size,
+        _ => super::user_length(len).map_or(0.0, |px| px * unit_per_px),
+    };
+    let origin = match root
+        .attribute("transform-origin")
+        .and_then(|v| svgtypes::TransformOrigin::from_str(v).ok())
+    {
+        Some(o) => Point::new(offset(o.x_offset, w), offset(o.y_offset, h)),
+        None => Point::new(0.5 * w, 0.5 * h),
+    };
+    Affine::translation(Point::new(-origin.x, -origin.y))
+        .then(&own)
+        .then(&Affine::translation(origin))
 }
 
 /// The map that fits the viewBox `vb` into a viewport of `w` × `h` at (0, 0) as the aspect

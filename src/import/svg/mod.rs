@@ -443,26 +443,45 @@ impl<'a, 'input> Reader<'a, 'input> {
         (s, displayed)
     }
 
-    /// The map from root user units to millimetres, y up, with a note on any assumption.
+    /// The map from root user units to millimetres, y up: the viewport fit, the root's own
+    /// `transform`, then the flip about the page height.
     fn page_map(&mut self, root: Node) -> Affine {
+        let (fit, page_w, page_h) = self.viewport_map(root);
+        if let Some(t) = root.attribute("transform") {
+            if Transform::from_str(t).is_err() {
+                let line = self.lines.line(root.range().start);
+                self.note(format!("transform at line {line} not read: ignored"));
+            }
+        }
+        let own = drawn::root_own_transform(root, page_w, page_h, MM_PER_PX);
+        let flip = Affine {
+            m: [1.0, 0.0, 0.0, -1.0],
+            t: Point::new(0.0, page_h),
+        };
+        fit.then(&own).then(&flip)
+    }
+
+    /// The map from root user units to the viewport in mm (y down), and the page width and
+    /// height in mm (0 when unknown; the flip is about the height), with a note on any
+    /// assumption.
+    fn viewport_map(&mut self, root: Node) -> (Affine, f64, f64) {
         let len = |name: &str| root.attribute(name).and_then(|v| Length::from_str(v).ok());
         let (w, h) = (len("width"), len("height"));
         let view_box = root
             .attribute("viewBox")
             .and_then(|v| ViewBox::from_str(v).ok());
         let (wm, hm) = (w.and_then(physical_mm), h.and_then(physical_mm));
-        let flip = |page_h: f64| Affine {
-            m: [1.0, 0.0, 0.0, -1.0],
-            t: Point::new(0.0, page_h),
-        };
         if let Some(s) = self.opts.svg_mm_per_unit {
             self.note(format!("1 user unit = {s} mm (--svg-scale)"));
-            let page_h = match (view_box, hm) {
-                (Some(vb), _) => (vb.y + vb.h) * s,
-                (None, Some((hmm, _))) => hmm,
+            let page = |vb_end: Option<f64>, physical: Option<(f64, bool)>| match (vb_end, physical)
+            {
+                (Some(end), _) => end * s,
+                (None, Some((mm, _))) => mm,
                 _ => 0.0,
             };
-            return Affine::scaling(s, s).then(&flip(page_h));
+            let page_w = page(view_box.map(|vb| vb.x + vb.w), wm);
+            let page_h = page(view_box.map(|vb| vb.y + vb.h), hm);
+            return (Affine::scaling(s, s), page_w, page_h);
         }
         let px_note = "page size in px (or bare numbers), taken at 96 px per inch (CSS)";
         let assumed = "no physical page size: 1 user unit taken as 1 px = 25.4/96 mm \
@@ -488,8 +507,11 @@ impl<'a, 'input> Reader<'a, 'input> {
                     .and_then(|v| svgtypes::AspectRatio::from_str(v).ok())
                     .unwrap_or_default();
                 let map = drawn::viewbox_fit(vb, aspect, vb.w * sx, vb.h * sy);
-                let page_h = hm.map_or(vb.h * sy, |h| h.0);
-                map.then(&flip(page_h))
+                (
+                    map,
+                    wm.map_or(vb.w * sx, |w| w.0),
+                    hm.map_or(vb.h * sy, |h| h.0),
+                )
             }
             None => {
                 match (wm, hm) {
@@ -501,8 +523,11 @@ impl<'a, 'input> Reader<'a, 'input> {
                     ),
                     _ => self.note(px_note.into()),
                 }
-                let page_h = hm.map_or(0.0, |h| h.0);
-                Affine::scaling(MM_PER_PX, MM_PER_PX).then(&flip(page_h))
+                (
+                    Affine::scaling(MM_PER_PX, MM_PER_PX),
+                    wm.map_or(0.0, |w| w.0),
+                    hm.map_or(0.0, |h| h.0),
+                )
             }
         }
     }
