@@ -721,6 +721,31 @@ fn the_root_transform_applies_in_the_viewport() {
 }
 
 #[test]
+fn a_symbol_viewbox_fits_the_use_that_places_it() {
+    // SVG 1.1 §5.6: a <use> of a <symbol> with a viewBox draws it in a viewport of the use's
+    // width and height (100 % of the page's viewBox by default). Symbol viewBox 0 0 10 10
+    // holding a circle of radius 5: at 20 × 20 from (10, 10) it has radius 10 centred at
+    // (20, 20); with no size it fills the 100-unit page: radius 50 centred at (50, 50).
+    let rows = measure(&svg(
+        r##"<defs><symbol id="dot" viewBox="0 0 10 10"><circle cx="5" cy="5" r="5"/></symbol></defs>
+<use href="#dot" x="10" y="10" width="20" height="20"/>"##,
+    ));
+    let p = rows[0].result.clone().expect("ok");
+    assert_close!(p.area, PI * 100.0, rel = 1e-12);
+    assert_close!(p.centroid.x, 20.0, abs = 1e-12);
+    assert_close!(p.centroid.y, 100.0 - 20.0, abs = 1e-12);
+    assert!(!rows[0].message.contains("usvg"), "{}", rows[0].message);
+    let rows = measure(&svg(
+        r##"<defs><symbol id="dot" viewBox="0 0 10 10"><circle cx="5" cy="5" r="5"/></symbol></defs>
+<use href="#dot"/>"##,
+    ));
+    let p = rows[0].result.clone().expect("ok");
+    assert_close!(p.area, PI * 2500.0, rel = 1e-12);
+    assert_close!(p.centroid.x, 50.0, abs = 1e-12);
+    assert!(!rows[0].message.contains("usvg"), "{}", rows[0].message);
+}
+
+#[test]
 fn a_hairline_stroke_is_an_outline() {
     // CAD programs write outlines with stroke-width 0 (a hairline); usvg paints nothing, but
     // the outline is the drawing's content.

@@ -125,6 +125,7 @@ pub fn read(bytes: &[u8], opts: &ReadOptions) -> Result<Drawing, ImportError> {
         use_stack: Vec::new(),
         placed: Vec::new(),
         local_extent: 0.0,
+        root_view: root_view(root),
         depth: 0,
         too_deep: None,
     };
@@ -266,6 +267,9 @@ struct Reader<'a, 'input> {
     css_ignored: bool,
     /// `<use>` elements being followed (to stop cycles).
     use_stack: Vec<roxmltree::NodeId>,
+    /// The root's viewBox size (or its width and height in px without one): what 100 %
+    /// means for a `<use>` of a symbol.
+    root_view: Option<(f64, f64)>,
     /// The largest coordinate or radius of any element in its own user units.
     local_extent: f64,
     /// Elements placed by the walk, in document order (their pieces wait for usvg's verdict).
@@ -749,6 +753,7 @@ impl<'a, 'input> Reader<'a, 'input> {
         self.use_stack.push(n.id());
         if target.tag_name().name() == "symbol" {
             let (style, displayed) = self.style_of(target, style);
+            let ctm = self.symbol_fit(n, target).then(&ctm);
             if displayed {
                 self.children(target, &ctm, page, &style, &layer, true);
             }
@@ -756,6 +761,41 @@ impl<'a, 'input> Reader<'a, 'input> {
             self.element(target, &ctm, page, style, &layer, true);
         }
         self.use_stack.pop();
+    }
+
+    /// A symbol's `viewBox` fitted into the size of the `<use>` placing it (its `width` and
+    /// `height`, 100 % by default, of the page's viewBox; SVG 1.1 §5.6 and §7.8, as usvg
+    /// does); identity without a viewBox, or when the size is unknown (usvg's outline is
+    /// then measured, see `settle`).
+    fn symbol_fit(&self, use_node: Node, symbol: Node) -> Affine {
+        let Some(vb) = symbol
+            .attribute("viewBox")
+            .and_then(|v| ViewBox::from_str(v).ok())
+            .filter(|vb| vb.w > 0.0 && vb.h > 0.0)
+        else {
+            return Affine::IDENTITY;
+        };
+        let size = |k: &str, full: Option<f64>| match use_node
+            .attribute(k)
+            .and_then(|v| Length::from_str(v).ok())
+        {
+            Some(l) if l.unit == SvgUnit::Percent => full.map(|f| l.number / 100.0 * f),
+            Some(l) => user_length(l),
+            None => full,
+        };
+        let (vw, vh) = self
+            .root_view
+            .map_or((None, None), |(w, h)| (Some(w), Some(h)));
+        match (size("width", vw), size("height", vh)) {
+            (Some(w), Some(h)) if w > 0.0 && h > 0.0 => {
+                let aspect = symbol
+                    .attribute("preserveAspectRatio")
+                    .and_then(|v| svgtypes::AspectRatio::from_str(v).ok())
+                    .unwrap_or_default();
+                drawn::viewbox_fit(vb, aspect, w, h)
+            }
+            _ => Affine::IDENTITY,
+        }
     }
 
     /// A shape element's subpaths in its own user units; notes and counts of what is wrong
@@ -1100,6 +1140,24 @@ fn pair(placed: &[Placed], drawn: &[drawn::Drawn]) -> Vec<Option<usize>> {
         }
     }
     partner
+}
+
+/// The root's viewBox size, else its width and height in px (user units), when known.
+fn root_view(root: Node) -> Option<(f64, f64)> {
+    if let Some(vb) = root
+        .attribute("viewBox")
+        .and_then(|v| ViewBox::from_str(v).ok())
+        .filter(|vb| vb.w > 0.0 && vb.h > 0.0)
+    {
+        return Some((vb.w, vb.h));
+    }
+    let px = |k: &str| {
+        root.attribute(k)
+            .and_then(|v| Length::from_str(v).ok())
+            .and_then(user_length)
+            .filter(|v| *v > 0.0)
+    };
+    Some((px("width")?, px("height")?))
 }
 
 /// The box of one point.
