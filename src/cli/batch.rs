@@ -289,33 +289,48 @@ thread_local! {
 
 /// Run `f` on the bytes of the file at `path`, read into this thread's reusable buffer.
 ///
-/// Reads until end of file without asking the file's size first (`read_to_end` would add a
-/// `statx` and an `lseek` per file): two `read` calls for a file that fits the buffer. A file
+/// Reads into the thread's buffer without asking the file's size first (`read_to_end` would
+/// add a `statx` and an `lseek` per file): two `read` calls for a file that fits it. A file
+/// that does not fit is then read to its end into room reserved for its size (one copy, no
+/// zero fill and no regrowing: a 76 MB drawing in 0.021 s instead of 0.059 s by doubling). A file
 /// of more than `limit` bytes is read no further (`ErrorKind::FileTooLarge`). A buffer grown
 /// past [`KEEP_BUFFER`] for a large file is let go afterwards, so that memory stays flat.
 fn with_file_bytes<R>(path: &Path, limit: u64, f: impl FnOnce(&[u8]) -> R) -> std::io::Result<R> {
     use std::io::Read;
+    /// The smallest buffer a thread reads into: most drawings fit.
+    const FIRST_BUFFER: usize = 256 * 1024;
     let mut buf = READ_BUFFER.with(|c| std::mem::take(&mut *c.borrow_mut()));
     let cap = usize::try_from(limit)
         .unwrap_or(usize::MAX)
         .saturating_add(1);
     let started = crate::timings::enabled().then(std::time::Instant::now);
     let read = std::fs::File::open(path).and_then(|mut file| {
+        if buf.len() < FIRST_BUFFER {
+            buf.resize(FIRST_BUFFER.min(cap), 0);
+        }
+        // The buffer may be longer than `cap` (kept from a run with a larger limit).
+        let room = buf.len().min(cap);
         let mut filled = 0;
-        loop {
-            if filled == buf.len() {
-                if filled >= cap {
-                    return Err(std::io::Error::from(std::io::ErrorKind::FileTooLarge));
-                }
-                buf.resize((2 * buf.len()).max(256 * 1024).min(cap), 0);
-            }
-            match file.read(&mut buf[filled..]) {
+        while filled < room {
+            match file.read(&mut buf[filled..room]) {
                 Ok(0) => return Ok(filled),
                 Ok(n) => filled += n,
                 Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
                 Err(e) => return Err(e),
             }
         }
+        // The buffer is full: the rest, up to `cap` bytes in all (one more than the limit,
+        // to tell a file of exactly `limit` bytes from a larger one).
+        buf.truncate(filled);
+        let size = file.metadata().map_or(0, |m| m.len());
+        let want = usize::try_from(size).unwrap_or(usize::MAX).min(cap);
+        buf.reserve(want.saturating_sub(filled).saturating_add(1));
+        let rest = u64::try_from(cap.saturating_sub(filled)).unwrap_or(u64::MAX);
+        (&mut file).take(rest).read_to_end(&mut buf)?;
+        if buf.len() >= cap {
+            return Err(std::io::Error::from(std::io::ErrorKind::FileTooLarge));
+        }
+        Ok(buf.len())
     });
     if let Some(t) = started {
         crate::timings::add(crate::timings::Step::ReadFile, t.elapsed());
@@ -324,7 +339,7 @@ fn with_file_bytes<R>(path: &Path, limit: u64, f: impl FnOnce(&[u8]) -> R) -> st
     if let Some(t) = started {
         crate::timings::file_took(path, t.elapsed());
     }
-    if buf.len() <= KEEP_BUFFER {
+    if buf.capacity() <= KEEP_BUFFER {
         READ_BUFFER.with(|c| *c.borrow_mut() = buf);
     }
     out
@@ -355,6 +370,25 @@ fn file_error(msg: String) -> Outcome {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn files_are_read_whole_up_to_the_limit_and_no_further() {
+        let dir = tempfile::tempdir().unwrap();
+        // Sizes below, at and above the first buffer, and a file read after a large one (the
+        // kept buffer then holds the large file's bytes beyond the small one's end).
+        for size in [0usize, 10, 256 * 1024, 256 * 1024 + 1, 3 << 20, 10] {
+            let bytes: Vec<u8> = (0..size).map(|k| (k * 7 % 251) as u8).collect();
+            let path = dir.path().join(format!("f{size}"));
+            std::fs::write(&path, &bytes).unwrap();
+            let limit = size as u64;
+            let got = with_file_bytes(&path, limit, <[u8]>::to_vec).unwrap();
+            assert!(got == bytes, "size {size}");
+            if size > 0 {
+                let e = with_file_bytes(&path, limit - 1, |_| ()).unwrap_err();
+                assert_eq!(e.kind(), std::io::ErrorKind::FileTooLarge, "size {size}");
+            }
+        }
+    }
 
     fn names(n: usize) -> Vec<PathBuf> {
         (0..n).map(|k| PathBuf::from(format!("{k:05}"))).collect()
