@@ -868,7 +868,8 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     // Walk from node `start_node` along run `r0`, appending runs oriented head to tail with
     // their ends snapped onto the nodes; stops back at the start (a loop), at a free end, or
     // at a node that is not of degree two.
-    // (`out_segs` collects the walk's segments; the result takes it.)
+    // (`out_segs` collects the walk's segments and keeps its room from walk to walk; the
+    // result is a copy of exactly its length, so that no loop's vector grows by doubling.)
     let mut out_segs: Vec<Segment> = Vec::new();
     // Also returns where the walk took the run that comes first in the drawing: its number,
     // whether it went forward, and the range of its segments in the result.
@@ -902,14 +903,14 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             node = next;
             let found = (earliest.1, earliest.2, earliest.3, earliest.4);
             if node == start_node {
-                return (std::mem::take(&mut out_segs), true, found);
+                return (out_segs.clone(), true, found);
             }
             if degree[node as usize] != 2 {
-                return (std::mem::take(&mut out_segs), false, found);
+                return (out_segs.clone(), false, found);
             }
             match touching(node).iter().find(|&&t| !used[t as usize]) {
                 Some(&t) => r = t,
-                None => return (std::mem::take(&mut out_segs), false, found),
+                None => return (out_segs.clone(), false, found),
             }
         }
     };

@@ -374,7 +374,12 @@ fn for_each_overlapping_pair(
         return PairSearch::Grid;
     }
     for (a, (b, end)) in sorted.iter().enumerate() {
-        for (c, (o, _)) in sorted.iter().enumerate().take(*end as usize).skip(a + 1) {
+        // The boxes after this one that start before its right edge (a plain slice, so that
+        // the loop is a counted one without bounds checks).
+        let Some(later) = sorted.get(a + 1..*end as usize) else {
+            continue;
+        };
+        for (k, (o, _)) in later.iter().enumerate() {
             // One branch on the whole test (`&` does not short-circuit): the four outcomes
             // are hard to predict, their conjunction less so.
             let hit = (o.min.x <= b.max.x)
@@ -382,7 +387,7 @@ fn for_each_overlapping_pair(
                 & (o.min.y <= b.max.y)
                 & (b.min.y <= o.max.y);
             if hit {
-                f(order[a], order[c]);
+                f(order[a], order[a + 1 + k]);
             }
         }
     }
