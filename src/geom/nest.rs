@@ -10,7 +10,7 @@
 
 use std::f64::consts::PI;
 
-use super::chain::{FastMap, Loop, LoopProblem};
+use super::chain::{Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
 use super::predicates::{intersections, winding_number, winding_number_clear_of, SlabIndex};
 use super::segment::{BBox, CurveSpan, Point, Segment};
@@ -90,15 +90,32 @@ fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point,
     // Items: every segment of every loop, numbered loop after loop; `first_item[l]` is the
     // number of loop l's first segment, and the boxes are the segments' loose boxes.
     let n_items: usize = loops.iter().map(|l| l.segments.len()).sum();
+    // Items are numbered along each loop. Most overlapping pairs are a segment and the next
+    // one of its loop, which usually meet only at their shared vertex: that is checked once
+    // per vertex here, and such pairs are passed over below. `simple_next[i]` is the item
+    // after item i when they only share their vertex, else NONE. Boxes and vertices are
+    // done in one pass over each loop, while its segments are in the cache.
+    const NONE: u32 = u32::MAX;
+    let mut simple_next = vec![NONE; n_items];
     let mut boxes: Vec<BBox> = Vec::with_capacity(n_items);
     let mut first_item: Vec<u32> = Vec::with_capacity(loops.len() + 1);
     let mut all = BBox::EMPTY;
     for l in loops {
-        first_item.push(boxes.len() as u32);
+        let first = boxes.len();
+        first_item.push(first as u32);
         for s in &l.segments {
             let bbox = s.loose_bbox();
             all = all.union(&bbox);
             boxes.push(bbox);
+        }
+        let n = l.segments.len();
+        if n >= 3 {
+            for k in 0..n {
+                let next = if k + 1 == n { 0 } else { k + 1 };
+                if only_share_their_vertex(&l.segments[k], &l.segments[next], tol) {
+                    simple_next[first + k] = (first + next) as u32;
+                }
+            }
         }
     }
     first_item.push(boxes.len() as u32);
@@ -107,25 +124,6 @@ fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point,
         let lp = first_item.partition_point(|&f| f <= i) - 1;
         (lp, i - first_item[lp])
     };
-    // Items are numbered along each loop. Most overlapping pairs are a segment and the next
-    // one of its loop, which usually meet only at their shared vertex: that is checked once
-    // per vertex here, and such pairs are passed over below. `simple_next[i]` is the item
-    // after item i when they only share their vertex, else NONE.
-    const NONE: u32 = u32::MAX;
-    let mut simple_next = vec![NONE; n_items];
-    let mut first = 0;
-    for l in loops {
-        let n = l.segments.len();
-        if n >= 3 {
-            for k in 0..n {
-                let next = (k + 1) % n;
-                if only_share_their_vertex(&l.segments[k], &l.segments[next], tol) {
-                    simple_next[first + k] = (first + next) as u32;
-                }
-            }
-        }
-        first += n;
-    }
     // Per loop: where it crosses, and whether itself. Of several crossings the message names
     // the lowest-left one, so that it does not depend on the order pairs are found in.
     let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()];
@@ -246,6 +244,7 @@ fn for_each_pair_in_groups(
     };
     let mut ids: Vec<u32> = Vec::new();
     let mut group_boxes: Vec<BBox> = Vec::new();
+    let mut buffers = SweepBuffers::default();
     let mut k = 0;
     while k < n_loops {
         let (group_all, items, ids) = if one_group {
@@ -266,7 +265,7 @@ fn for_each_pair_in_groups(
             (group_all, &group_boxes[..], &ids[..])
         };
         if items.len() >= 2 {
-            let _ = for_each_overlapping_pair(&group_all, items, tol, |a, b| {
+            let _ = for_each_overlapping_pair_in(&mut buffers, &group_all, items, tol, |a, b| {
                 if ids.is_empty() {
                     f(a, b)
                 } else {
@@ -324,10 +323,38 @@ fn for_each_overlapping_pair(
     all: &BBox,
     boxes: &[BBox],
     tol: f64,
+    f: impl FnMut(u32, u32),
+) -> PairSearch {
+    for_each_overlapping_pair_in(&mut SweepBuffers::default(), all, boxes, tol, f)
+}
+
+/// The working arrays of [`for_each_overlapping_pair`], kept from one call to the next where
+/// it runs once per group of a sheet's loops (tens of thousands of small calls on a large
+/// sheet, each of which would otherwise allocate and free them).
+#[derive(Default)]
+struct SweepBuffers {
+    start: Vec<u32>,
+    fill: Vec<u32>,
+    order: Vec<u32>,
+    sorted: Vec<(BBox, u32)>,
+}
+
+/// [`for_each_overlapping_pair`] with its working arrays in `buffers`.
+fn for_each_overlapping_pair_in(
+    buffers: &mut SweepBuffers,
+    all: &BBox,
+    boxes: &[BBox],
+    tol: f64,
     mut f: impl FnMut(u32, u32),
 ) -> PairSearch {
     /// Candidate pairs per box above which the grid is used instead of the sweep.
     const SWEEP_PAIRS_PER_BOX: usize = 24;
+    let SweepBuffers {
+        start,
+        fill,
+        order,
+        sorted,
+    } = buffers;
     let n = boxes.len();
     let x0 = all.min.x - tol;
     let scale = n as f64 / (all.width() + 2.0 * tol);
@@ -335,15 +362,18 @@ fn for_each_overlapping_pair(
     // Slice of an x coordinate (a cast to i64 is one instruction; NaN becomes 0).
     let slice = |x: f64| (((x - x0) * scale) as i64).clamp(0, n as i64 - 1) as usize;
     // Counting sort by the slice of the left edge: start[k]..start[k + 1] is slice k.
-    let mut start = vec![0u32; n + 1];
+    start.clear();
+    start.resize(n + 1, 0);
     for b in boxes {
         start[slice(b.min.x) + 1] += 1;
     }
     for k in 0..n {
         start[k + 1] += start[k];
     }
-    let mut fill = start.clone();
-    let mut order = vec![0u32; n];
+    fill.clear();
+    fill.extend_from_slice(start);
+    order.clear();
+    order.resize(n, 0);
     for (i, b) in boxes.iter().enumerate() {
         let k = slice(b.min.x);
         order[fill[k] as usize] = i as u32;
@@ -353,17 +383,15 @@ fn for_each_overlapping_pair(
     // overlap exactly when the boxes are within `tol`, as `BBox::overlaps` says), and the end
     // in `order` of the slice of its right edge: boxes from there on start to its right.
     let half = 0.5 * tol;
-    let sorted: Vec<(BBox, u32)> = order
-        .iter()
-        .map(|&i| {
-            let b = boxes[i as usize];
-            let grown = BBox {
-                min: Point::new(b.min.x - half, b.min.y - half),
-                max: Point::new(b.max.x + half, b.max.y + half),
-            };
-            (grown, start[slice(b.max.x + tol) + 1])
-        })
-        .collect();
+    sorted.clear();
+    sorted.extend(order.iter().map(|&i| {
+        let b = boxes[i as usize];
+        let grown = BBox {
+            min: Point::new(b.min.x - half, b.min.y - half),
+            max: Point::new(b.max.x + half, b.max.y + half),
+        };
+        (grown, start[slice(b.max.x + tol) + 1])
+    }));
     let pairs: usize = sorted
         .iter()
         .enumerate()
@@ -737,25 +765,35 @@ pub fn nest(
     // their signed area gives the direction, and the profiles reuse them.
     let mut info: Vec<(f64, BBox)> = Vec::with_capacity(loops.len());
     let mut moments: Vec<Moments> = Vec::with_capacity(loops.len());
-    let mut keep = Vec::with_capacity(loops.len());
-    for l in loops.drain(..) {
+    let mut lengths: Vec<f64> = Vec::with_capacity(loops.len());
+    let mut first_probes: Vec<Point> = Vec::with_capacity(loops.len());
+    let mut zero_area = vec![false; loops.len()];
+    for (k, l) in loops.iter().enumerate() {
         let bb = l.exact_bbox(curves);
         let m = loop_moments(&l.segments, bb.center(), curves);
         let area = m.a;
         // A loop with no area: below rounding noise for its size (common practice).
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
+            zero_area[k] = true;
             problems.push(LoopProblem::ZeroArea {
                 bbox: bb,
                 origin: l.origin,
-                layer: l.layer,
+                layer: l.layer.clone(),
             });
             continue;
         }
         info.push((area, bb));
         moments.push(m);
-        keep.push(l);
+        // Measured here, while the loop's segments are in the cache, as is the first point
+        // tried for containment (see `probe` below).
+        lengths.push(l.length(curves));
+        first_probes.push(probe_point(&l.segments, area > 0.0, 0, PROBES));
     }
-    let loops = keep;
+    let mut k = 0;
+    loops.retain(|_| {
+        k += 1;
+        !zero_area[k - 1]
+    });
     // Integrals as if every loop ran counter-clockwise; the loops themselves are turned
     // round only once their role is known (outer loops counter-clockwise, holes clockwise).
     let mut drawn_ccw: Vec<bool> = Vec::with_capacity(loops.len());
@@ -788,7 +826,9 @@ pub fn nest(
         r
     };
     let mut queries: Vec<u32> = vec![0; loops.len()];
-    let mut slabs: Vec<Option<SlabIndex>> = (0..loops.len()).map(|_| None).collect();
+    // Boxed: a sheet of many loops holds a slot per loop, and only long, much-asked loops
+    // get an index.
+    let mut slabs: Vec<Option<Box<SlabIndex>>> = (0..loops.len()).map(|_| None).collect();
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
     let mut duplicate = vec![false; loops.len()];
@@ -814,16 +854,8 @@ pub fn nest(
         // run counter-clockwise.
         let segs = &loops[i].segments;
         let n = segs.len();
-        let probe = |k: usize| {
-            let at = k * n / PROBES.min(n);
-            if drawn_ccw[i] {
-                &segs[at]
-            } else {
-                &segs[n - 1 - at]
-            }
-            .midpoint()
-        };
-        let first_probe = probe(0);
+        let probe = |k: usize| probe_point(segs, drawn_ccw[i], k, PROBES);
+        let first_probe = first_probes[i];
         let bb = info[i].1;
         let mut best: Option<usize> = None;
         for &j in candidates(first_probe) {
@@ -843,7 +875,7 @@ pub fn nest(
             // building it costs about ten scans, so only after more than thirty.
             queries[j] += 1;
             if slabs[j].is_none() && queries[j] > 32 && container.len() >= 64 {
-                slabs[j] = Some(SlabIndex::new(container, tol));
+                slabs[j] = Some(Box::new(SlabIndex::new(container, tol)));
             }
             let index = slabs[j].as_ref();
             // The winding number around `q`: with a clearance, only if `q` is that clear of
@@ -871,9 +903,16 @@ pub fn nest(
         }
     }
     // Assemble profiles in the order loops were given (the caller sorts rows).
-    let mut profile_of: FastMap<usize, usize> = FastMap::default();
+    // The profile each outer loop became (`NO_PROFILE` for the other loops), and room for
+    // every profile at once: a sheet of many profiles would otherwise grow the vector by
+    // doubling, copying the profiles and touching fresh memory each time.
+    const NO_PROFILE: u32 = u32::MAX;
+    let mut profile_of = vec![NO_PROFILE; loops.len()];
+    let outers = (0..loops.len())
+        .filter(|&i| depth[i].is_multiple_of(2) && !duplicate[i])
+        .count();
     let mut slots: Vec<Option<Loop>> = loops.into_iter().map(Some).collect();
-    let mut profiles: Vec<Profile> = Vec::new();
+    let mut profiles: Vec<Profile> = Vec::with_capacity(outers);
     for &i in &order {
         if depth[i].is_multiple_of(2) && !duplicate[i] {
             // `slots[i]` is taken exactly once, here or as a hole below.
@@ -881,9 +920,9 @@ pub fn nest(
                 if !drawn_ccw[i] {
                     outer.reverse();
                 }
-                profile_of.insert(i, profiles.len());
+                profile_of[i] = profiles.len() as u32;
                 let bbox = info[i].1;
-                let outer_length = outer.length(curves);
+                let outer_length = lengths[i];
                 profiles.push(Profile {
                     outer,
                     holes: Vec::new(),
@@ -902,12 +941,13 @@ pub fn nest(
                 if drawn_ccw[i] {
                     hole.reverse();
                 }
-                if let Some(&k) = profile_of.get(&p) {
+                let k = profile_of[p] as usize;
+                if profile_of[p] != NO_PROFILE {
                     // The hole's integrals, turned clockwise and moved to the profile's origin.
                     let d = profiles[k].bbox.center() - info[i].1.center();
                     let m = (moments[i] * -1.0).shifted(d);
                     profiles[k].moments += m;
-                    profiles[k].holes_length += hole.length(curves);
+                    profiles[k].holes_length += lengths[i];
                     profiles[k].holes.push(hole);
                 }
             }
@@ -917,6 +957,15 @@ pub fn nest(
         profiles,
         duplicate_loops: duplicate.iter().filter(|&&d| d).count(),
     }
+}
+
+/// Point `k` of the `probes` points of a loop tried for containment: the midpoint of a
+/// segment, the segments taken evenly spread along the loop as run counter-clockwise (`ccw`:
+/// whether the loop is drawn that way), starting with its first.
+fn probe_point(segs: &[Segment], ccw: bool, k: usize, probes: usize) -> Point {
+    let n = segs.len();
+    let at = k * n / probes.min(n);
+    if ccw { &segs[at] } else { &segs[n - 1 - at] }.midpoint()
 }
 
 /// A uniform grid over boxes: each cell lists the boxes that cover it.
