@@ -902,30 +902,43 @@ pub fn nest(
             depth[i] = depth[p] + 1;
         }
     }
-    // Assemble profiles in the order loops were given (the caller sorts rows).
+    // Assemble profiles, largest first (the caller sorts rows).
     // The profile each outer loop became (`NO_PROFILE` for the other loops), and room for
     // every profile at once: a sheet of many profiles would otherwise grow the vector by
     // doubling, copying the profiles and touching fresh memory each time.
     const NO_PROFILE: u32 = u32::MAX;
     let mut profile_of = vec![NO_PROFILE; loops.len()];
+    // Holes of each loop, so that each profile's list is allocated once at its size.
+    let mut holes_of = vec![0u32; loops.len()];
+    for i in 0..loops.len() {
+        if let (Some(p), 1) = (parent[i], depth[i] % 2) {
+            holes_of[p] += 1;
+        }
+    }
     let outers = (0..loops.len())
         .filter(|&i| depth[i].is_multiple_of(2) && !duplicate[i])
         .count();
+    // Outer loops counter-clockwise, holes clockwise (loops of no profile are dropped),
+    // turned in the order the loops lie in memory rather than by size: on a large sheet
+    // their segments are long out of the cache by now.
+    for (i, l) in loops.iter_mut().enumerate() {
+        let outer = depth[i].is_multiple_of(2);
+        if !duplicate[i] && outer != drawn_ccw[i] {
+            l.reverse();
+        }
+    }
     let mut slots: Vec<Option<Loop>> = loops.into_iter().map(Some).collect();
     let mut profiles: Vec<Profile> = Vec::with_capacity(outers);
     for &i in &order {
         if depth[i].is_multiple_of(2) && !duplicate[i] {
             // `slots[i]` is taken exactly once, here or as a hole below.
-            if let Some(mut outer) = slots[i].take() {
-                if !drawn_ccw[i] {
-                    outer.reverse();
-                }
+            if let Some(outer) = slots[i].take() {
                 profile_of[i] = profiles.len() as u32;
                 let bbox = info[i].1;
                 let outer_length = lengths[i];
                 profiles.push(Profile {
                     outer,
-                    holes: Vec::new(),
+                    holes: Vec::with_capacity(holes_of[i] as usize),
                     bbox,
                     moments: moments[i],
                     outer_length,
@@ -937,10 +950,7 @@ pub fn nest(
     }
     for &i in &order {
         if depth[i] % 2 == 1 {
-            if let (Some(p), Some(mut hole)) = (parent[i], slots[i].take()) {
-                if drawn_ccw[i] {
-                    hole.reverse();
-                }
+            if let (Some(p), Some(hole)) = (parent[i], slots[i].take()) {
                 let k = profile_of[p] as usize;
                 if profile_of[p] != NO_PROFILE {
                     // The hole's integrals, turned clockwise and moved to the profile's origin.
