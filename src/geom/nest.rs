@@ -247,27 +247,39 @@ fn for_each_pair_in_groups(
     let mut buffers = SweepBuffers::default();
     let mut k = 0;
     while k < n_loops {
-        let (group_all, items, ids) = if one_group {
+        // The group's items, and what to add to an item's number in them (`offset`) or
+        // where to look it up (`ids`, when not empty).
+        let (group_all, items, offset, ids) = if one_group {
             k = n_loops;
-            (*all, boxes, &ids[..0])
+            (*all, boxes, 0, &ids[..0])
         } else {
             let r = roots[order[k] as usize];
-            ids.clear();
-            group_boxes.clear();
+            let first = k;
             let mut group_all = BBox::EMPTY;
             while k < n_loops && roots[order[k] as usize] == r {
-                let l = order[k] as usize;
-                ids.extend(items_of(l).map(|i| i as u32));
-                group_boxes.extend_from_slice(&boxes[items_of(l)]);
-                group_all = group_all.union(&loop_boxes[l]);
+                group_all = group_all.union(&loop_boxes[order[k] as usize]);
                 k += 1;
             }
-            (group_all, &group_boxes[..], &ids[..])
+            let (l0, l1) = (order[first] as usize, order[k - 1] as usize);
+            if l1 - l0 + 1 == k - first {
+                // Loops numbered one after another (a profile and its holes, as chaining
+                // lists them): their items are one run of `boxes`, searched where they lie.
+                let run = first_item[l0] as usize..first_item[l1 + 1] as usize;
+                (group_all, &boxes[run.clone()], run.start as u32, &ids[..0])
+            } else {
+                ids.clear();
+                group_boxes.clear();
+                for &l in &order[first..k] {
+                    ids.extend(items_of(l as usize).map(|i| i as u32));
+                    group_boxes.extend_from_slice(&boxes[items_of(l as usize)]);
+                }
+                (group_all, &group_boxes[..], 0, &ids[..])
+            }
         };
         if items.len() >= 2 {
             let _ = for_each_overlapping_pair_in(&mut buffers, &group_all, items, tol, |a, b| {
                 if ids.is_empty() {
-                    f(a, b)
+                    f(a + offset, b + offset)
                 } else {
                     f(ids[a as usize], ids[b as usize])
                 }
