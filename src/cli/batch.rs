@@ -130,6 +130,9 @@ const HAND_ON_BATCH: usize = 16;
 /// number of files. An error from `sink` stops the run (the threads finish the file they are
 /// on) and is returned.
 ///
+/// When all the files fit in the window, the threads take them up largest first (see
+/// [`largest_first`]); they are still handed on in file order.
+///
 /// Threads are woken only when something they wait for has happened: the calling thread
 /// when the files it waits for are all done (or a worker stopped), the workers when the
 /// window moves while one of them waits for it.
@@ -160,6 +163,7 @@ pub fn stream_batch<T: Send>(
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()))
         .min(files.len().max(1));
     let window = WINDOW_PER_THREAD * threads;
+    let claim_order = largest_first(files, window);
     let bar = ProgressBar::new(files.len() as u64);
     bar.set_style(
         ProgressStyle::with_template("{bar:40} {pos}/{len} files {elapsed_precise}")
@@ -182,15 +186,17 @@ pub fn stream_batch<T: Send>(
     let result = std::thread::scope(|scope| -> anyhow::Result<()> {
         for _ in 0..threads {
             let (claim, handed, stop, per_file, bar) = (&claim, &handed, &stop, &per_file, &bar);
+            let claim_order = &claim_order;
             let (lock, main_wakes, workers_wake) = (&lock, &main_wakes, &workers_wake);
             std::thread::Builder::new()
                 .name("sectio-worker".into())
                 .stack_size(16 << 20) // see run_batch_with
                 .spawn_scoped(scope, move || loop {
-                    let i = claim.fetch_add(1, Ordering::Relaxed);
-                    if i >= files.len() || stop.load(Ordering::Relaxed) {
+                    let c = claim.fetch_add(1, Ordering::Relaxed);
+                    if c >= files.len() || stop.load(Ordering::Relaxed) {
                         return;
                     }
+                    let i = claim_order.as_ref().map_or(c, |o| o[c]);
                     // Wait until the file is within the window of the next one handed on.
                     if i >= handed.load(Ordering::Acquire) + window {
                         let mut st = lock();
@@ -274,6 +280,27 @@ pub fn stream_batch<T: Send>(
     std::panic::set_hook(previous_hook);
     bar.finish_and_clear();
     result
+}
+
+/// The order in which the threads of [`stream_batch`] take up `files` when all of them fit in
+/// its `window`: largest first, so that a folder of a few drawings, some much larger than the
+/// rest, does not end with one thread on a large drawing while the others have nothing left
+/// (longest-processing-time-first, a common practice of scheduling; the file's size stands
+/// for its time). `None` (the order given) for more files: the threads then take the next file
+/// in the order given, so that files in flight stay within the window, and a tail of one file
+/// is a small part of the run. Files whose size cannot be read count as empty.
+fn largest_first(files: &[PathBuf], window: usize) -> Option<Vec<usize>> {
+    if files.len() < 2 || files.len() > window {
+        return None;
+    }
+    let sizes: Vec<u64> = files
+        .iter()
+        .map(|f| std::fs::metadata(f).map_or(0, |m| m.len()))
+        .collect();
+    let mut order: Vec<usize> = (0..files.len()).collect();
+    // Stable: files of equal size keep their order.
+    order.sort_by_key(|&i| std::cmp::Reverse(sizes[i]));
+    Some(order)
 }
 
 /// All rows of one file; never panics.
@@ -489,6 +516,45 @@ mod tests {
         }
         // No files: nothing handed on, no hang.
         stream_batch(&[], None, |_| 0, |_| panic!("nothing to hand on")).expect("empty run");
+    }
+
+    #[test]
+    fn a_few_files_are_taken_up_largest_first_and_handed_on_in_file_order() {
+        let dir = tempfile::tempdir().unwrap();
+        let sizes = [10usize, 5000, 0, 300, 5000, 70];
+        let files: Vec<PathBuf> = sizes
+            .iter()
+            .enumerate()
+            .map(|(k, &n)| {
+                let path = dir.path().join(format!("f{k}"));
+                std::fs::write(&path, vec![b'x'; n]).unwrap();
+                path
+            })
+            .collect();
+        let started = std::sync::Mutex::new(Vec::new());
+        let mut handed = Vec::new();
+        stream_batch(
+            &files,
+            Some(1),
+            |p| {
+                started.lock().unwrap().push(p.to_path_buf());
+                p.to_path_buf()
+            },
+            |p| {
+                handed.push(p);
+                Ok(())
+            },
+        )
+        .expect("run");
+        // One thread takes them up in the order it is given: by size, equal sizes as listed.
+        let by_size: Vec<PathBuf> = [1, 4, 3, 5, 0, 2]
+            .iter()
+            .map(|&k| files[k].clone())
+            .collect();
+        assert_eq!(started.into_inner().unwrap(), by_size);
+        assert_eq!(handed, files);
+        // More files than the window: the order given.
+        assert_eq!(largest_first(&files, 5), None);
     }
 
     #[test]
