@@ -321,7 +321,7 @@ impl EllipseArc {
         b
     }
 
-    fn length_between(&self, ta: f64, tb: f64) -> f64 {
+    fn length_between(&self, ta: f64, tb: f64, mut budget: Option<&mut u32>) -> f64 {
         let (lo, hi) = (ta.min(tb), ta.max(tb));
         if hi.partial_cmp(&lo) != Some(Ordering::Greater) {
             return 0.0;
@@ -340,7 +340,7 @@ impl EllipseArc {
                     lo + (hi - lo) * ((i + 1) as f64 / n as f64)
                 };
                 let whole = gauss(&mut f, a, b, rule);
-                adaptive(&mut f, a, b, rule, [tol], whole, 0)[0]
+                adaptive_in(&mut f, a, b, rule, [tol], whole, budget.as_deref_mut())[0]
             })
             .sum()
     }
@@ -789,7 +789,7 @@ impl Nurbs {
         }
     }
 
-    fn length_between(&self, ta: f64, tb: f64) -> f64 {
+    fn length_between(&self, ta: f64, tb: f64, mut budget: Option<&mut u32>) -> f64 {
         let (lo, hi, _) = self.clamped_range(ta, tb);
         if hi.partial_cmp(&lo) != Some(Ordering::Greater) {
             return 0.0;
@@ -806,7 +806,7 @@ impl Nurbs {
                 let mut f = |t: f64| [self.eval_span(k, t, Point::default()).1.norm()];
                 let whole = gauss(&mut f, a, b, rule);
                 let tol = 1e-13 * poly.max(whole[0].abs());
-                adaptive(&mut f, a, b, rule, [tol], whole, 0)[0]
+                adaptive_in(&mut f, a, b, rule, [tol], whole, budget.as_deref_mut())[0]
             })
             .sum()
     }
@@ -1128,7 +1128,30 @@ fn adaptive<const N: usize>(
 }
 
 /// Most interval splits one [`adaptive`] call makes.
-const ADAPTIVE_SPLITS: u32 = 4096;
+pub const ADAPTIVE_SPLITS: u32 = 4096;
+
+/// [`adaptive`] with its splits also drawn from `budget` when one is given (at most
+/// [`ADAPTIVE_SPLITS`] in this call, as ever, and no more than `budget` has left).
+fn adaptive_in<const N: usize>(
+    f: &mut impl FnMut(f64) -> [f64; N],
+    a: f64,
+    b: f64,
+    rule: &Rule,
+    tol: [f64; N],
+    whole: [f64; N],
+    budget: Option<&mut u32>,
+) -> [f64; N] {
+    match budget {
+        Some(budget) => {
+            let mut here = (*budget).min(ADAPTIVE_SPLITS);
+            let allowed = here;
+            let sum = adaptive_within(f, a, b, rule, tol, whole, 0, &mut here);
+            *budget -= allowed - here;
+            sum
+        }
+        None => adaptive(f, a, b, rule, tol, whole, 0),
+    }
+}
 
 #[allow(clippy::too_many_arguments)]
 fn adaptive_within<const N: usize>(
@@ -1436,8 +1459,19 @@ impl Curve {
     /// ellipse or per spline span, to about 1e-13 relative.
     pub fn length_between(&self, ta: f64, tb: f64) -> f64 {
         match self {
-            Curve::Ellipse(e) => e.length_between(ta, tb),
-            Curve::Nurbs(s) => s.length_between(ta, tb),
+            Curve::Ellipse(e) => e.length_between(ta, tb, None),
+            Curve::Nurbs(s) => s.length_between(ta, tb, None),
+        }
+    }
+
+    /// [`Curve::length_between`] with its interval splits drawn from `budget`, shared with
+    /// other calls (the pieces of one curve), instead of [`ADAPTIVE_SPLITS`] for each
+    /// quarter turn or span: once it is spent, each piece's length is its Gauss–Legendre
+    /// estimate as it stands.
+    pub fn length_between_within(&self, ta: f64, tb: f64, budget: &mut u32) -> f64 {
+        match self {
+            Curve::Ellipse(e) => e.length_between(ta, tb, Some(budget)),
+            Curve::Nurbs(s) => s.length_between(ta, tb, Some(budget)),
         }
     }
 

@@ -44,6 +44,13 @@ impl CurveTable {
 /// 12 s (curves near 1e-60 or 1e-160 take a millisecond, like any other).
 const MIN_CURVE_SIZE: f64 = 1e-100;
 
+/// Interval splits the length integrals of one curve's pieces may make together (16 times
+/// what one integral may make alone). A spline whose control points lie 3e-8 apart at 13 mm
+/// from the origin (found by fuzzing) turns back on itself at cusps, where no split satisfies
+/// the tolerance: each of its 472 pieces spent a whole budget, 19 s in all. Ordinary curves
+/// take a few splits per piece.
+const CURVE_LENGTH_SPLITS: u32 = 16 * crate::geom::curve::ADAPTIVE_SPLITS;
+
 /// The curve as curve pieces, with one span per piece appended to `table.spans` and the
 /// curve itself to `table.curves`. A closed curve
 /// (end on start to 1e-12 of its size) ends exactly on its first point. Empty when the
@@ -60,6 +67,7 @@ pub fn curve_segments(curve: &Curve, table: &mut CurveTable) -> Vec<Segment> {
     let params = curve.flatten(FLATTEN_REL * size, if closed { 4 } else { 2 });
     let first = curve.point(params[0]);
     let mut out = Vec::with_capacity(params.len().saturating_sub(1));
+    let mut splits = CURVE_LENGTH_SPLITS;
     let mut a = first;
     for (k, w) in params.windows(2).enumerate() {
         let (ta, tb) = (w[0], w[1]);
@@ -76,7 +84,7 @@ pub fn curve_segments(curve: &Curve, table: &mut CurveTable) -> Vec<Segment> {
         curves.push(CurveSpan {
             at,
             correction: exact + line_moments(a - at, b - at) * -1.0,
-            length: curve.length_between(ta, tb),
+            length: curve.length_between_within(ta, tb, &mut splits),
             bbox: curve.bbox_between(ta, tb),
             curve: curve_idx,
             ta,
@@ -176,6 +184,38 @@ mod tests {
         assert!(table.spans.is_empty() && table.curves.is_empty());
         let pieces = curve_segments(&flat(1e-60), &mut table);
         assert!(pieces.len() > 100, "{} pieces", pieces.len());
+    }
+
+    /// The fuzzer's spline that turns back on itself at cusps, 3e-8 mm across at 13 mm from
+    /// the origin: its pieces share one budget of splits for their lengths (it took 19 s
+    /// when each piece had its own), and still each piece is at least as long as its chord
+    /// (within the rounding of its ends) and the curve's length is its pieces' lengths.
+    #[test]
+    fn a_tiny_cusped_spline_is_cut_with_lengths_no_shorter_than_its_chords() {
+        use crate::geom::curve::Nurbs;
+        let (hi, lo) = (13.000000026, 12.999999974);
+        let ctrl = vec![
+            Point::new(hi, hi),
+            Point::new(hi, hi),
+            Point::new(hi, lo),
+            Point::new(13.0, hi),
+            Point::new(hi, hi),
+            Point::new(hi, hi),
+        ];
+        let knots: Vec<f64> = (0..10).map(f64::from).collect();
+        let spline = Curve::Nurbs(Nurbs::new(3, knots, ctrl, Vec::new()).expect("valid spline"));
+        let mut table = CurveTable::default();
+        let pieces = curve_segments(&spline, &mut table);
+        assert!(pieces.len() > 10, "{} pieces", pieces.len());
+        let mut sum = 0.0;
+        for (piece, span) in pieces.iter().zip(&table.spans) {
+            let chord = piece.start().dist(piece.end());
+            // The chord's ends are rounded to about 2e-15 at 13 mm: a margin of 1e-13.
+            assert!(span.length.is_finite() && span.length >= chord - 1e-13);
+            sum += span.length;
+        }
+        let whole = spline.length_between(3.0, 6.0);
+        assert!((sum - whole).abs() <= 1e-6 * whole, "{sum} against {whole}");
     }
 
     /// A full ellipse as curve pieces: area πab, Ixx = πab³/4, Iyy = πa³b/4 about its centre
