@@ -842,7 +842,10 @@ impl Nurbs {
                 if excess <= 0.0 {
                     continue;
                 }
-                if excess <= margin || depth >= 60 {
+                // Not a number (a spline whose points overflow, near 1e308: found by fuzzing)
+                // is taken as it stands too: bisecting it never gives anything else, and the
+                // depth limit alone let it run 2^60 steps.
+                if !(excess > margin) || depth >= 60 {
                     r = r.union(&h);
                     continue;
                 }

@@ -218,6 +218,21 @@ mod tests {
         assert!((sum - whole).abs() <= 1e-6 * whole, "{sum} against {whole}");
     }
 
+    /// A rational spline reaching the largest double (the fuzzer's): its points overflow,
+    /// its box is not a number, and it has no pieces (its box's search ran 2^60 steps).
+    #[test]
+    fn a_spline_whose_points_overflow_has_no_pieces() {
+        use crate::geom::curve::Nurbs;
+        let ctrl = vec![
+            Point::new(f64::EPSILON, f64::EPSILON),
+            Point::new(f64::MAX, f64::MAX),
+        ];
+        let spline = Nurbs::new(1, vec![0.0, 0.0, 1.0, 1.0], ctrl, vec![4.25, 4.25]);
+        let mut table = CurveTable::default();
+        let pieces = curve_segments(&Curve::Nurbs(spline.expect("valid spline")), &mut table);
+        assert!(pieces.is_empty() && table.spans.is_empty());
+    }
+
     /// A full ellipse as curve pieces: area πab, Ixx = πab³/4, Iyy = πa³b/4 about its centre
     /// (check-values.md §1, ellipse row), length and box from its own spans.
     #[test]
