@@ -845,7 +845,7 @@ impl Nurbs {
                 // Not a number (a spline whose points overflow, near 1e308: found by fuzzing)
                 // is taken as it stands too: bisecting it never gives anything else, and the
                 // depth limit alone let it run 2^60 steps.
-                if !(excess > margin) || depth >= 60 {
+                if excess <= margin || excess.is_nan() || depth >= 60 {
                     r = r.union(&h);
                     continue;
                 }
