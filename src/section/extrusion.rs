@@ -286,8 +286,13 @@ fn circle_on_three(a: Point, b: Point, c: Point) -> Circle {
 /// The smallest circle holding every point to within `slack`, by Welzl's algorithm in its
 /// incremental form (Welzl 1991; from memory) over the points in an order shuffled from a
 /// fixed seed: expected linear time, and the same answer on every run. `None` for no
-/// points.
+/// points, or for a point that is not finite.
 pub fn smallest_enclosing_circle(points: &[Point], slack: f64) -> Option<Circle> {
+    // No circle holds a point that is not finite, and every such point would restart the
+    // search below: `None`.
+    if points.iter().any(|p| !(p.x.is_finite() && p.y.is_finite())) {
+        return None;
+    }
     let mut pts = points.to_vec();
     // Fisher–Yates with xorshift64 (Marsaglia 2003) from a fixed seed.
     let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
@@ -354,6 +359,12 @@ fn circumscribing_circle(
         let before = pts.len();
         for s in outer {
             if let Some(w) = farthest_point(s, &c, table, reference, slack) {
+                // A point that is not finite (arithmetic overflowing on a section near 1e150
+                // mm: found by fuzzing) cannot be held by any circle: each round added more,
+                // and the circle search over them grew as their cube (minutes).
+                if !(w.x.is_finite() && w.y.is_finite()) {
+                    return None;
+                }
                 if !c.holds(w, slack) {
                     pts.push(w);
                 }
@@ -1101,6 +1112,24 @@ mod tests {
             line(w, h, 0.0, h),
             line(0.0, h, 0.0, 0.0),
         ]
+    }
+
+    /// A point that is not finite (overflowing arithmetic on a section near 1e150 mm, found
+    /// by fuzzing) gives no circle, instead of a search that restarts at every such point.
+    #[test]
+    fn no_circle_holds_a_point_that_is_not_finite() {
+        let mut pts = vec![
+            Point::new(0.0, 0.0),
+            Point::new(4.0, 0.0),
+            Point::new(0.0, 3.0),
+        ];
+        let c = smallest_enclosing_circle(&pts, 1e-12).expect("points");
+        assert!((c.radius - 2.5).abs() < 1e-12, "{c:?}");
+        for bad in [f64::NAN, f64::INFINITY] {
+            pts.push(Point::new(bad, 1.0));
+            assert_eq!(smallest_enclosing_circle(&pts, 1e-12), None);
+            pts.pop();
+        }
     }
 
     #[test]
