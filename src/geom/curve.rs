@@ -340,7 +340,7 @@ impl EllipseArc {
                     lo + (hi - lo) * ((i + 1) as f64 / n as f64)
                 };
                 let whole = gauss(&mut f, a, b, rule);
-                adaptive_in(&mut f, a, b, rule, [tol], whole, budget.as_deref_mut())[0]
+                adaptive(&mut f, a, b, rule, [tol], whole, budget.as_deref_mut())[0]
             })
             .sum()
     }
@@ -762,7 +762,7 @@ impl Nurbs {
         let rule = gauss_legendre(2 * p + 4);
         let mut f = |t: f64| self.cone_integrand(k, t, origin);
         let whole = gauss(&mut f, a, b, rule);
-        to_moments(adaptive(&mut f, a, b, rule, tol, whole, 0))
+        to_moments(adaptive(&mut f, a, b, rule, tol, whole, None))
     }
 
     fn moments_between(&self, ta: f64, tb: f64, origin: Point) -> Moments {
@@ -806,7 +806,7 @@ impl Nurbs {
                 let mut f = |t: f64| [self.eval_span(k, t, Point::default()).1.norm()];
                 let whole = gauss(&mut f, a, b, rule);
                 let tol = 1e-13 * poly.max(whole[0].abs());
-                adaptive_in(&mut f, a, b, rule, [tol], whole, budget.as_deref_mut())[0]
+                adaptive(&mut f, a, b, rule, [tol], whole, budget.as_deref_mut())[0]
             })
             .sum()
     }
@@ -1117,25 +1117,11 @@ fn gauss<const N: usize>(
 /// awkward, can make it run long: past that the halves are taken as they are. Halves that
 /// are not finite (an integrand that overflows, on a curve near 1e154) are taken at once:
 /// splitting cannot mend them, and each of a curve's pieces used up the whole budget.
+///
+/// With a `budget`, the splits are also drawn from it (at most [`ADAPTIVE_SPLITS`] in this
+/// call, as ever, and no more than the budget has left), so that the pieces of one curve can
+/// share one.
 fn adaptive<const N: usize>(
-    f: &mut impl FnMut(f64) -> [f64; N],
-    a: f64,
-    b: f64,
-    rule: &Rule,
-    tol: [f64; N],
-    whole: [f64; N],
-    depth: u32,
-) -> [f64; N] {
-    let mut budget = ADAPTIVE_SPLITS;
-    adaptive_within(f, a, b, rule, tol, whole, depth, &mut budget)
-}
-
-/// Most interval splits one [`adaptive`] call makes.
-pub const ADAPTIVE_SPLITS: u32 = 4096;
-
-/// [`adaptive`] with its splits also drawn from `budget` when one is given (at most
-/// [`ADAPTIVE_SPLITS`] in this call, as ever, and no more than `budget` has left).
-fn adaptive_in<const N: usize>(
     f: &mut impl FnMut(f64) -> [f64; N],
     a: f64,
     b: f64,
@@ -1144,17 +1130,19 @@ fn adaptive_in<const N: usize>(
     whole: [f64; N],
     budget: Option<&mut u32>,
 ) -> [f64; N] {
-    match budget {
-        Some(budget) => {
-            let mut here = (*budget).min(ADAPTIVE_SPLITS);
-            let allowed = here;
-            let sum = adaptive_within(f, a, b, rule, tol, whole, 0, &mut here);
-            *budget -= allowed - here;
-            sum
-        }
-        None => adaptive(f, a, b, rule, tol, whole, 0),
+    let mut here = budget
+        .as_deref()
+        .map_or(ADAPTIVE_SPLITS, |&b| b.min(ADAPTIVE_SPLITS));
+    let allowed = here;
+    let sum = adaptive_within(f, a, b, rule, tol, whole, 0, &mut here);
+    if let Some(budget) = budget {
+        *budget -= allowed - here;
     }
+    sum
 }
+
+/// Most interval splits one [`adaptive`] call makes.
+pub const ADAPTIVE_SPLITS: u32 = 4096;
 
 #[allow(clippy::too_many_arguments)]
 fn adaptive_within<const N: usize>(
@@ -1567,7 +1555,7 @@ mod tests {
                 [value, 1.0]
             };
             let whole = gauss(&mut f, 0.0, 1.0, rule);
-            let got = adaptive(&mut f, 0.0, 1.0, rule, [1e-12, 1e-12], whole, 0);
+            let got = adaptive(&mut f, 0.0, 1.0, rule, [1e-12, 1e-12], whole, None);
             assert!(!got[0].is_finite() && got[1] == 1.0, "{got:?}");
             // The whole interval and its two halves.
             assert_eq!(calls, 3 * rule.x.len(), "{value}");
@@ -1579,7 +1567,7 @@ mod tests {
             [t.abs().sqrt()]
         };
         let whole = gauss(&mut f, -1.0, 1.0, rule);
-        let got = adaptive(&mut f, -1.0, 1.0, rule, [1e-12], whole, 0);
+        let got = adaptive(&mut f, -1.0, 1.0, rule, [1e-12], whole, None);
         // ∫ √|t| dt over [−1, 1] = 4/3.
         assert!((got[0] - 4.0 / 3.0).abs() < 1e-9, "{got:?}");
         assert!(calls > 10 * rule.x.len(), "{calls}");
