@@ -360,11 +360,8 @@ fn circumscribing_circle(
         for s in outer {
             if let Some(w) = farthest_point(s, &c, table, reference, slack) {
                 // A point that is not finite (arithmetic overflowing on a section near 1e150
-                // mm: found by fuzzing) cannot be held by any circle: each round added more,
-                // and the circle search over them grew as their cube (minutes).
-                if !(w.x.is_finite() && w.y.is_finite()) {
-                    return None;
-                }
+                // mm: found by fuzzing) is held by no circle, so it is added, and the next
+                // round's `smallest_enclosing_circle` ends the search with `None`.
                 if !c.holds(w, slack) {
                     pts.push(w);
                 }
@@ -1124,6 +1121,7 @@ mod tests {
             Point::new(0.0, 3.0),
         ];
         let c = smallest_enclosing_circle(&pts, 1e-12).expect("points");
+        // A right triangle's hypotenuse is the diameter of its circumcircle (Thales).
         assert!((c.radius - 2.5).abs() < 1e-12, "{c:?}");
         for bad in [f64::NAN, f64::INFINITY] {
             pts.push(Point::new(bad, 1.0));
