@@ -180,10 +180,12 @@ fn single_level_j(mesh: &Mesh, ip: f64) -> f64 {
 fn profiles_of(pieces: Vec<Piece>) -> Vec<sectio::geom::Profile> {
     let loops: Vec<_> = pieces
         .into_iter()
-        .map(|p| sectio::geom::Loop {
+        .enumerate()
+        .map(|(seq, p)| sectio::geom::Loop {
             segments: p.segments,
             layer: p.layer,
             origin: p.origin,
+            seq: seq as u32,
         })
         .collect();
     let mut problems = Vec::new();

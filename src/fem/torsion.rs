@@ -531,6 +531,7 @@ mod tests {
             .into_iter()
             .map(|segments| Loop {
                 segments,
+                seq: 0,
                 layer: LayerName::default(),
                 origin: Origin {
                     entity: "LWPOLYLINE",

@@ -54,23 +54,31 @@ pub fn drop_crossing_loops(
 ) -> Vec<Loop> {
     let bad = crossings(&loops, tol, PairSource::Boxes);
     let mut kept = Vec::with_capacity(loops.len());
+    // Reported in drawing order (`Loop::seq`), whatever order the loops are listed in.
+    let mut crossing: Vec<(u32, LoopProblem)> = Vec::new();
     for (l, b) in loops.into_iter().zip(bad) {
-        match b {
-            None => kept.push(l),
-            Some((at, true)) => problems.push(LoopProblem::SelfIntersection {
+        let problem = match b {
+            None => {
+                kept.push(l);
+                continue;
+            }
+            Some((at, true)) => LoopProblem::SelfIntersection {
                 at,
                 bbox: l.bbox(),
                 origin: l.origin,
                 layer: l.layer,
-            }),
-            Some((at, false)) => problems.push(LoopProblem::LoopsCross {
+            },
+            Some((at, false)) => LoopProblem::LoopsCross {
                 at,
                 bbox: l.bbox(),
                 origin: l.origin,
                 layer: l.layer,
-            }),
-        }
+            },
+        };
+        crossing.push((l.seq, problem));
     }
+    crossing.sort_by_key(|(seq, _)| *seq);
+    problems.extend(crossing.into_iter().map(|(_, p)| p));
     kept
 }
 
@@ -779,7 +787,10 @@ pub fn nest(
     let mut moments: Vec<Moments> = Vec::with_capacity(loops.len());
     let mut lengths: Vec<f64> = Vec::with_capacity(loops.len());
     let mut first_probes: Vec<Point> = Vec::with_capacity(loops.len());
+    let mut seqs: Vec<u32> = Vec::with_capacity(loops.len());
     let mut zero_area = vec![false; loops.len()];
+    // Loops with no area, reported in drawing order (`Loop::seq`).
+    let mut flat: Vec<(u32, LoopProblem)> = Vec::new();
     for (k, l) in loops.iter().enumerate() {
         let bb = l.exact_bbox(curves);
         let m = loop_moments(&l.segments, bb.center(), curves);
@@ -787,20 +798,24 @@ pub fn nest(
         // A loop with no area: below rounding noise for its size (common practice).
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
             zero_area[k] = true;
-            problems.push(LoopProblem::ZeroArea {
+            let problem = LoopProblem::ZeroArea {
                 bbox: bb,
                 origin: l.origin,
                 layer: l.layer.clone(),
-            });
+            };
+            flat.push((l.seq, problem));
             continue;
         }
         info.push((area, bb));
+        seqs.push(l.seq);
         moments.push(m);
         // Measured here, while the loop's segments are in the cache, as is the first point
         // tried for containment (see `probe` below).
         lengths.push(l.length(curves));
         first_probes.push(probe_point(&l.segments, area > 0.0, 0, PROBES));
     }
+    flat.sort_by_key(|(seq, _)| *seq);
+    problems.extend(flat.into_iter().map(|(_, p)| p));
     let mut k = 0;
     loops.retain(|_| {
         k += 1;
@@ -816,9 +831,10 @@ pub fn nest(
             *m = *m * -1.0;
         }
     }
-    // Largest first: a container is always larger than what it holds.
+    // Largest first: a container is always larger than what it holds. Equal areas in
+    // drawing order, which decides which of two equal outlines is kept.
     let mut order: Vec<usize> = (0..loops.len()).collect();
-    order.sort_by(|&a, &b| info[b].0.total_cmp(&info[a].0));
+    order.sort_by(|&a, &b| (info[b].0.total_cmp(&info[a].0)).then(seqs[a].cmp(&seqs[b])));
     // Candidate containers: through a grid of boxes when there are many loops; a sheet's few
     // loops are simply all tried (their boxes are compared first anyway).
     const GRID_FROM: usize = 32;
@@ -1246,6 +1262,7 @@ mod tests {
             .collect();
         Loop {
             segments,
+            seq: 0,
             layer: "0".into(),
             origin: crate::import::Origin {
                 entity: "LWPOLYLINE",
@@ -1253,6 +1270,76 @@ mod tests {
                 handle: None,
                 in_block: false,
             },
+        }
+    }
+
+    /// Where order decides, loops count in drawing order (`Loop::seq`), not in the order
+    /// they are listed in (a large drawing lists them in memory order): of two equal
+    /// outlines the one drawn first is kept, equal holes and the problems of several loops
+    /// come in drawing order.
+    #[test]
+    fn order_follows_the_drawing_not_the_list() {
+        let p = Point::new;
+        let square = |x: f64, y: f64, w: f64| {
+            test_loop(
+                &[p(x, y), p(x + w, y), p(x + w, y + w), p(x, y + w)],
+                &[0.0; 4],
+            )
+        };
+        let named = |mut l: Loop, seq: u32, layer: &str| {
+            l.seq = seq;
+            l.layer = layer.into();
+            l
+        };
+        for listed_backwards in [false, true] {
+            let mut loops = vec![
+                named(square(0.0, 0.0, 100.0), 0, "outer"),
+                named(square(0.0, 0.0, 100.0), 1, "again"),
+                named(square(10.0, 10.0, 5.0), 2, "hole 2"),
+                named(square(50.0, 50.0, 5.0), 3, "hole 3"),
+                // No area: a line there and back.
+                named(
+                    test_loop(&[p(200.0, 0.0), p(210.0, 0.0)], &[0.0; 2]),
+                    4,
+                    "flat 4",
+                ),
+                named(
+                    test_loop(&[p(300.0, 0.0), p(310.0, 0.0)], &[0.0; 2]),
+                    5,
+                    "flat 5",
+                ),
+                // Figures of eight: each crosses itself.
+                named(
+                    test_loop(
+                        &[p(400.0, 0.0), p(410.0, 10.0), p(410.0, 0.0), p(400.0, 10.0)],
+                        &[0.0; 4],
+                    ),
+                    6,
+                    "eight 6",
+                ),
+                named(
+                    test_loop(
+                        &[p(500.0, 0.0), p(510.0, 10.0), p(510.0, 0.0), p(500.0, 10.0)],
+                        &[0.0; 4],
+                    ),
+                    7,
+                    "eight 7",
+                ),
+            ];
+            if listed_backwards {
+                loops.reverse();
+            }
+            let mut problems = Vec::new();
+            let loops = drop_crossing_loops(loops, 1e-6, &mut problems);
+            let nested = nest(loops, 1e-6, &[], &mut problems);
+            assert_eq!(nested.duplicate_loops, 1);
+            assert_eq!(nested.profiles.len(), 1);
+            let profile = &nested.profiles[0];
+            assert_eq!(&*profile.outer.layer, "outer");
+            let holes: Vec<&str> = profile.holes.iter().map(|h| &*h.layer).collect();
+            assert_eq!(holes, ["hole 2", "hole 3"]);
+            let problems: Vec<&str> = problems.iter().map(|pr| pr.layer()).collect();
+            assert_eq!(problems, ["eight 6", "eight 7", "flat 4", "flat 5"]);
         }
     }
 
