@@ -9,7 +9,7 @@
 #   typical  N drawings of one profile each (50-2000 outline segments, 0-12 holes, clutter);
 #   heavy    HEAVY drawings (default 20) of one profile with a 50 000-segment outline;
 #   catalog  CATALOG sheets (default 20) of 200 profiles each.
-# For each set it takes the best wall-clock time of RUNS runs (default 5) of:
+# For each set it takes the best wall-clock time of RUNS interleaved rounds (default 7) of:
 #   floor    examples/parse_floor.rs: read, split code/value pairs, parse codes and floats;
 #   dxf      examples/dxf_load.rs: load every file with the dxf crate, on all cores (rayon);
 #   dxf-1t   the same on one thread (RAYON_NUM_THREADS=1), as a program built on the dxf crate
@@ -35,7 +35,7 @@ SEED="${SEED:-1}"
 HEAVY="${HEAVY:-20}"
 CATALOG="${CATALOG:-20}"
 MANY="${MANY:-100000}"
-RUNS="${RUNS:-5}"
+RUNS="${RUNS:-7}"
 MEASURE_ARGS="${MEASURE_ARGS---layer PROFILE}"
 OUT=bench-out
 
@@ -74,30 +74,30 @@ make_set() {
 total() { sed -n "s/.* $2=\([0-9]*\).*/\1/p" "$OUT/$1.totals"; }
 
 declare -A secs peak status
-# best_of KEY CMD...: runs CMD $RUNS times; keeps the fastest wall-clock time in secs[KEY] and
-# that run's peak memory (kB) in peak[KEY]. A run that exits above 1 (1 is `measure`'s "some
-# profiles failed") stops the timing of KEY and is reported in status[KEY].
-best_of() {
-    local key=$1 best="" t0 t1 t rc
+# run_once KEY CMD...: runs CMD once; keeps the fastest wall-clock time so far in secs[KEY]
+# and that run's peak memory (kB) in peak[KEY]. A run that exits above 1 (1 is `measure`'s
+# "some profiles failed") stops the timing of KEY and is reported in status[KEY]. The steps
+# of a set are run in interleaved rounds (each step once per round, $RUNS rounds), so that a
+# change in the host's load over a minute falls on all of them alike.
+run_once() {
+    local key=$1 t0 t1 t rc=0
     shift
-    for _ in $(seq "$RUNS"); do
-        t0=$(date +%s.%N)
-        rc=0
-        /usr/bin/time -f "%M" -o "$OUT/mem.txt" "$@" >"$OUT/run.log" 2>&1 || rc=$?
-        t1=$(date +%s.%N)
-        if [[ $rc -gt 1 ]]; then
-            status[$key]="failed (exit $rc)"
-            echo "$key failed (exit $rc); last lines of its output:" >&2
-            tail -n 5 "$OUT/run.log" >&2
-            return 0
-        fi
-        t=$(awk -v a="$t0" -v b="$t1" 'BEGIN {printf "%.4f", b - a}')
-        if [[ -z "$best" ]] || awk -v t="$t" -v b="$best" 'BEGIN {exit !(t < b)}'; then
-            best=$t
-            peak[$key]=$(tail -n 1 "$OUT/mem.txt")
-        fi
-    done
-    secs[$key]=$best
+    [[ "${status[$key]:-}" == failed* ]] && return 0
+    t0=$(date +%s.%N)
+    /usr/bin/time -f "%M" -o "$OUT/mem.txt" "$@" >"$OUT/run.log" 2>&1 || rc=$?
+    t1=$(date +%s.%N)
+    if [[ $rc -gt 1 ]]; then
+        status[$key]="failed (exit $rc)"
+        unset "secs[$key]"
+        echo "$key failed (exit $rc); last lines of its output:" >&2
+        tail -n 5 "$OUT/run.log" >&2
+        return 0
+    fi
+    t=$(awk -v a="$t0" -v b="$t1" 'BEGIN {printf "%.4f", b - a}')
+    if [[ -z "${secs[$key]:-}" ]] || awk -v t="$t" -v b="${secs[$key]}" 'BEGIN {exit !(t < b)}'; then
+        secs[$key]=$t
+        peak[$key]=$(tail -n 1 "$OUT/mem.txt")
+    fi
     status[$key]=ok
 }
 
@@ -114,14 +114,16 @@ summary=()
 for set in typical heavy catalog; do
     dir="$OUT/$set"
     [[ $(total "$set" files) -gt 0 ]] || continue
-    echo "== $set: timing (best of $RUNS, wall clock)"
-    best_of "$set floor" target/release/examples/parse_floor "$dir"
-    best_of "$set dxf" target/release/examples/dxf_load "$dir"
-    best_of "$set dxf-1t" env RAYON_NUM_THREADS=1 target/release/examples/dxf_load "$dir"
-    # shellcheck disable=SC2086  # MEASURE_ARGS is a list of flags
-    best_of "$set measure" "$sectio" measure "$dir" -o "$OUT/result.csv" $MEASURE_ARGS
-    # shellcheck disable=SC2086
-    best_of "$set measure-j1" "$sectio" measure "$dir" -j 1 -o "$OUT/result-j1.csv" $MEASURE_ARGS
+    echo "== $set: timing (best of $RUNS interleaved rounds, wall clock)"
+    for _ in $(seq "$RUNS"); do
+        run_once "$set floor" target/release/examples/parse_floor "$dir"
+        run_once "$set dxf" target/release/examples/dxf_load "$dir"
+        run_once "$set dxf-1t" env RAYON_NUM_THREADS=1 target/release/examples/dxf_load "$dir"
+        # shellcheck disable=SC2086  # MEASURE_ARGS is a list of flags
+        run_once "$set measure" "$sectio" measure "$dir" -o "$OUT/result.csv" $MEASURE_ARGS
+        # shellcheck disable=SC2086
+        run_once "$set measure-j1" "$sectio" measure "$dir" -j 1 -o "$OUT/result-j1.csv" $MEASURE_ARGS
+    done
     rows=$(($(wc -l <"$OUT/result.csv") - 1))
     not_ok=$(awk -F, 'NR > 1 && $3 != "ok"' "$OUT/result.csv" | wc -l)
     files=$(total "$set" files) profiles=$(total "$set" profiles) segments=$(total "$set" segments) bytes=$(total "$set" bytes)
