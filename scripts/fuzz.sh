@@ -12,9 +12,10 @@
 # script goes on with the next target, then exits with status 1. Logs: fuzz/logs/TARGET.log.
 #
 # The fuzz crate builds in fuzz/target, or in $CARGO_TARGET_DIR/fuzz when that is set.
-# Environment: SANITIZER (default none: the sectio library has no unsafe code, and runs without
-# AddressSanitizer are faster; SANITIZER=address also checks the dependencies' unsafe
-# code), JOBS (default 1: parallel fuzzing processes per target).
+# Environment: SANITIZER (default none: the sectio library's only unsafe code is a prefetch
+# hint that reads nothing, and runs without AddressSanitizer are faster; SANITIZER=address
+# also checks the dependencies' unsafe code), JOBS (default 1: parallel fuzzing processes
+# per target).
 # The corpora, artifacts and logs are not committed (fuzz/.gitignore).
 set -euo pipefail
 cd "$(dirname "$0")/.."
