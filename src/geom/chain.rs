@@ -1023,6 +1023,8 @@ fn prefetch<T>(p: *const T) {
     unsafe {
         core::arch::x86_64::_mm_prefetch::<{ core::arch::x86_64::_MM_HINT_T0 }>(p as *const i8)
     }
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = p;
 }
 
 impl Runs {
@@ -1036,6 +1038,8 @@ impl Runs {
         };
         sorted.start.push(0);
         for (k, &r) in order.iter().enumerate() {
+            // Two steps ahead: a run's entry in the list, then (by the time it has come in)
+            // the segments it points to.
             if let Some(&a) = order.get(k + AHEAD) {
                 prefetch(&runs[a as usize]);
             }
@@ -1043,6 +1047,7 @@ impl Runs {
                 prefetch(runs[a as usize].0.as_ptr());
             }
             let (segs, piece) = &runs[r as usize];
+            // Most runs are one loose LINE or ARC: copied without a call to `memcpy`.
             if let [one] = &segs[..] {
                 sorted.segs.push(*one);
             } else {

@@ -834,7 +834,7 @@ pub fn nest(
     // Largest first: a container is always larger than what it holds. Equal areas in
     // drawing order, which decides which of two equal outlines is kept.
     let mut order: Vec<usize> = (0..loops.len()).collect();
-    order.sort_by(|&a, &b| (info[b].0.total_cmp(&info[a].0)).then(seqs[a].cmp(&seqs[b])));
+    order.sort_by(|&a, &b| info[b].0.total_cmp(&info[a].0).then(seqs[a].cmp(&seqs[b])));
     // Candidate containers: through a grid of boxes when there are many loops; a sheet's few
     // loops are simply all tried (their boxes are compared first anyway).
     const GRID_FROM: usize = 32;

@@ -51,6 +51,7 @@
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
 use std::f64::consts::SQRT_2;
+use std::ops::RangeInclusive;
 
 use crate::geom::predicates::{closest_point, SlabIndex};
 use crate::geom::{Arc, BBox, CurvePiece, CurveTable, Point, Profile, Segment};
@@ -670,22 +671,40 @@ impl<'a> SegmentGrid<'a> {
         let (cx, cy) = self.cell_of(p);
         let (cx, cy) = (cx as i64, cy as i64);
         let (nx, ny) = (self.nx as i64, self.ny as i64);
+        // The segments of the cells of columns `xs` in row `iy`.
+        let row = |xs: RangeInclusive<i64>, iy: i64, best: &mut _| {
+            for ix in xs {
+                for &i in self.cell_items(ix as usize, iy as usize) {
+                    test(i, best);
+                }
+            }
+        };
         for k in 0i64.. {
             if cx - k < 0 && cx + k >= nx && cy - k < 0 && cy + k >= ny {
                 break;
             }
-            for iy in (cy - k).max(0)..=(cy + k).min(ny - 1) {
-                let edge = iy == cy - k || iy == cy + k;
-                let xs: &mut dyn Iterator<Item = i64> = if edge {
-                    &mut ((cx - k).max(0)..=(cx + k).min(nx - 1))
-                } else {
-                    &mut [cx - k, cx + k].into_iter().filter(|&x| x >= 0 && x < nx)
-                };
-                for ix in xs {
-                    for &i in self.cell_items(ix as usize, iy as usize) {
-                        test(i, &mut best);
+            // Ring k, row by row from the bottom: its bottom and top rows whole, the rows
+            // between at its left and right columns, each clipped to the grid. The rows
+            // between are visited only when one of those columns is in the grid, so that a
+            // ring costs the cells it has there (stepping through all its rows cost a long
+            // thin grid k steps per ring: half a million for each point of a 1 × 1024 grid).
+            let (x0, x1) = ((cx - k).max(0), (cx + k).min(nx - 1));
+            let (left, right) = (cx - k >= 0, k > 0 && cx + k < nx);
+            if cy - k >= 0 {
+                row(x0..=x1, cy - k, &mut best);
+            }
+            if left || right {
+                for iy in (cy - k + 1).max(0)..=(cy + k - 1).min(ny - 1) {
+                    if left {
+                        row(cx - k..=cx - k, iy, &mut best);
+                    }
+                    if right {
+                        row(cx + k..=cx + k, iy, &mut best);
                     }
                 }
+            }
+            if k > 0 && cy + k < ny {
+                row(x0..=x1, cy + k, &mut best);
             }
             // Cells of the next ring lie at least k cells away from p.
             if best.0.min(limit) <= k as f64 * self.cell {
@@ -1197,6 +1216,44 @@ mod tests {
                 .map(|s| closest_point(s, p).dist(p))
                 .fold(f64::INFINITY, f64::min);
             assert_eq!(near, full);
+        }
+    }
+
+    /// Long thin grids (1 × 1024 cells and 1024 × 1): the ring search, which steps through a
+    /// ring's rows only where the ring has cells, finds what a full scan finds, for points
+    /// on the grid and far off it on every side.
+    #[test]
+    fn nearest_points_of_a_long_thin_grid_agree_with_a_full_scan() {
+        let mut r = uniform(5);
+        for upright in [false, true] {
+            let along = |t: f64, across: f64| {
+                if upright {
+                    Point::new(across, t)
+                } else {
+                    Point::new(t, across)
+                }
+            };
+            // 2000 short segments along a line 1000 long and 0.01 wide.
+            let segs: Vec<Segment> = (0..2000)
+                .map(|k| {
+                    let t = k as f64 * 0.5;
+                    Segment::line(along(t, 0.01 * r()), along(t + 0.4, 0.01 * r()))
+                })
+                .collect();
+            let grid = SegmentGrid::new(&segs);
+            assert_eq!(
+                (grid.nx.min(grid.ny), grid.nx.max(grid.ny)),
+                (1, SegmentGrid::MAX_SIDE)
+            );
+            for _ in 0..500 {
+                let p = along(3000.0 * r() - 1000.0, 2000.0 * r() - 1000.0);
+                let near = grid.nearest(p).0;
+                let full = segs
+                    .iter()
+                    .map(|s| closest_point(s, p).dist(p))
+                    .fold(f64::INFINITY, f64::min);
+                assert_eq!(near, full, "{p:?}");
+            }
         }
     }
 
