@@ -77,9 +77,14 @@ pub fn drop_crossing_loops(
         };
         crossing.push((l.seq, problem));
     }
-    crossing.sort_by_key(|(seq, _)| *seq);
-    problems.extend(crossing.into_iter().map(|(_, p)| p));
+    push_in_drawing_order(problems, crossing);
     kept
+}
+
+/// Append the problems found (each with its loop's `seq`) to `problems` in drawing order.
+fn push_in_drawing_order(problems: &mut Vec<LoopProblem>, mut found: Vec<(u32, LoopProblem)>) {
+    found.sort_by_key(|(seq, _)| *seq);
+    problems.extend(found.into_iter().map(|(_, p)| p));
 }
 
 /// Where candidate pairs of segments come from.
@@ -814,8 +819,7 @@ pub fn nest(
         lengths.push(l.length(curves));
         first_probes.push(probe_point(&l.segments, area > 0.0, 0, PROBES));
     }
-    flat.sort_by_key(|(seq, _)| *seq);
-    problems.extend(flat.into_iter().map(|(_, p)| p));
+    push_in_drawing_order(problems, flat);
     let mut k = 0;
     loops.retain(|_| {
         k += 1;
