@@ -893,54 +893,76 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
         }
     }
 
-    // Walk from node `start_node` along run `r0`, appending runs oriented head to tail with
-    // their ends snapped onto the nodes; stops back at the start (a loop), at a free end, or
-    // at a node that is not of degree two.
-    // (`out_segs` collects the walk's segments and keeps its room from walk to walk; the
-    // result is a copy of exactly its length, so that no loop's vector grows by doubling.)
-    let mut out_segs: Vec<Segment> = Vec::new();
-    // Also returns where the walk took the run that comes first in the drawing: its number,
-    // whether it went forward, and the range of its segments in the result.
-    let mut walk = |start_node: u32,
-                    r0: u32,
-                    used: &mut Vec<bool>|
-     -> (Vec<Segment>, bool, (usize, bool, usize, usize)) {
-        out_segs.clear();
-        let mut node = start_node;
-        let mut r = r0;
-        let mut earliest = (u32::MAX, 0, true, 0, 0);
-        loop {
-            used[r as usize] = true;
-            let (a, b) = ends[r as usize];
-            let run = runs.run(r as usize);
-            let first = out_segs.len();
-            let next = if a == node {
-                out_segs.extend_from_slice(run);
-                b
+    // Walk from node `start_node` along run `r0`, noting each run taken (`Step`); stops back
+    // at the start (a loop), at a free end, or at a node that is not of degree two. Returns
+    // whether it closed, and which step took the run that comes first in the drawing.
+    // (`steps` keeps its room from walk to walk.)
+    let mut steps: Vec<Step> = Vec::new();
+    let walk =
+        |start_node: u32, r0: u32, used: &mut [bool], steps: &mut Vec<Step>| -> (bool, usize) {
+            steps.clear();
+            let mut node = start_node;
+            let mut r = r0;
+            let mut earliest = (u32::MAX, 0);
+            loop {
+                used[r as usize] = true;
+                let (a, b) = ends[r as usize];
+                let forward = a == node;
+                let next = if forward { b } else { a };
+                if perm[r as usize] < earliest.0 {
+                    earliest = (perm[r as usize], steps.len());
+                }
+                steps.push(Step {
+                    run: r,
+                    forward,
+                    from: node,
+                    to: next,
+                });
+                node = next;
+                if node == start_node {
+                    return (true, earliest.1);
+                }
+                if degree[node as usize] != 2 {
+                    return (false, earliest.1);
+                }
+                match touching(node).iter().find(|&&t| !used[t as usize]) {
+                    Some(&t) => r = t,
+                    None => return (false, earliest.1),
+                }
+            }
+        };
+    // The segments of a walk's steps, in the order given, each run oriented head to tail
+    // with its ends snapped onto the nodes: copied once, into a vector of exactly their
+    // number. `back` takes every step the other way round (a loop walked against its first
+    // run's direction).
+    let segments_of = |steps: &[Step], order: &mut dyn Iterator<Item = usize>, back: bool| {
+        let total = steps.iter().map(|s| runs.len_of(s.run as usize)).sum();
+        let mut out: Vec<Segment> = Vec::with_capacity(total);
+        for k in order {
+            let Step {
+                run,
+                forward,
+                from,
+                to,
+            } = steps[k];
+            let (forward, from, to) = if back {
+                (!forward, to, from)
             } else {
-                out_segs.extend(run.iter().rev().map(Segment::reversed));
-                a
+                (forward, from, to)
             };
-            let (from, to) = (nodes.pos[node as usize], nodes.pos[next as usize]);
-            out_segs[first] = snapped(out_segs[first], from, out_segs[first].end());
-            let last = out_segs.len() - 1;
-            out_segs[last] = snapped(out_segs[last], out_segs[last].start(), to);
-            if perm[r as usize] < earliest.0 {
-                earliest = (perm[r as usize], r as usize, a == node, first, last + 1);
+            let run = runs.run(run as usize);
+            let first = out.len();
+            if forward {
+                out.extend_from_slice(run);
+            } else {
+                out.extend(run.iter().rev().map(Segment::reversed));
             }
-            node = next;
-            let found = (earliest.1, earliest.2, earliest.3, earliest.4);
-            if node == start_node {
-                return (out_segs.clone(), true, found);
-            }
-            if degree[node as usize] != 2 {
-                return (out_segs.clone(), false, found);
-            }
-            match touching(node).iter().find(|&&t| !used[t as usize]) {
-                Some(&t) => r = t,
-                None => return (out_segs.clone(), false, found),
-            }
+            let (from, to) = (nodes.pos[from as usize], nodes.pos[to as usize]);
+            out[first] = snapped(out[first], from, out[first].end());
+            let last = out.len() - 1;
+            out[last] = snapped(out[last], out[last].start(), to);
         }
+        out
     };
 
     // Open chains start at free ends.
@@ -949,7 +971,8 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
         if degree[n as usize] == 1 {
             let r = touching(n)[0];
             if !used[r as usize] {
-                let (run, _, _) = walk(n, r, &mut used);
+                walk(n, r, &mut used, &mut steps);
+                let run = segments_of(&steps, &mut (0..steps.len()), false);
                 open.push((run, runs.piece[r as usize] as usize));
             }
         }
@@ -957,32 +980,30 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     // What is left runs through nodes of degree two only: closed loops, each starting with its
     // first run in the drawing, going forward along it, numbered (`Loop::seq`) in the order of
     // those runs. A large drawing's loops are found in the order of the runs in memory (in
-    // drawing order, each would start with a cache miss), turned to start right and listed
-    // in that order, which the crossing and nesting passes read them in; a small one's are
-    // found in drawing order, where each walk starts right.
+    // drawing order, each would start with a cache miss) and listed in that order, which the
+    // crossing and nesting passes read them in; a small one's are found in drawing order,
+    // where each walk starts right.
     const MEMORY_ORDER_FROM: usize = 4096;
     let memory_order = runs.len() >= MEMORY_ORDER_FROM;
     let mut found: Vec<(u32, Loop)> = Vec::new();
     for (step, &r) in rank.iter().enumerate() {
         let k = if memory_order { step } else { r as usize };
         if !used[k] {
-            let (mut run, closed, (first, forward, from, to)) =
-                walk(ends[k].0, k as u32, &mut used);
+            let (closed, e) = walk(ends[k].0, k as u32, &mut used, &mut steps);
+            let first = steps[e].run as usize;
             let piece = runs.piece[first] as usize;
             let (layer, origin) = &meta[piece];
+            let m = steps.len();
             if closed {
-                if forward {
-                    run.rotate_left(from);
+                // From the first run on: forward, or the whole loop the other way round.
+                let run = if steps[e].forward {
+                    segments_of(&steps, &mut (e..m).chain(0..e), false)
                 } else {
-                    run.reverse();
-                    for s in &mut run {
-                        *s = s.reversed();
-                    }
-                    let at = run.len() - to;
-                    run.rotate_left(at);
-                }
+                    segments_of(&steps, &mut (0..=e).rev().chain((e + 1..m).rev()), true)
+                };
                 found.push((perm[first], close_up(run, layer.clone(), *origin, 0)));
             } else {
+                let run = segments_of(&steps, &mut (0..m), false);
                 open.push((run, piece));
             }
         }
@@ -996,6 +1017,16 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     }
     out.loops.extend(found.into_iter().map(|(_, l)| l));
     classify_open(open, meta, out);
+}
+
+/// One run taken by a walk in `link`: which, whether along its own direction, and the nodes
+/// it goes from and to.
+#[derive(Clone, Copy)]
+struct Step {
+    run: u32,
+    forward: bool,
+    from: u32,
+    to: u32,
 }
 
 /// Runs of segments in one array: run k is `segs[start[k]..start[k + 1]]`, from piece
@@ -1061,6 +1092,10 @@ impl Runs {
 
     fn len(&self) -> usize {
         self.piece.len()
+    }
+
+    fn len_of(&self, k: usize) -> usize {
+        (self.start[k + 1] - self.start[k]) as usize
     }
 
     fn run(&self, k: usize) -> &[Segment] {
