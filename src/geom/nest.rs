@@ -12,7 +12,9 @@ use std::f64::consts::PI;
 
 use super::chain::{Loop, LoopProblem};
 use super::moments::{loop_moments, Moments};
-use super::predicates::{intersections, winding_number, winding_number_clear_of, SlabIndex};
+use super::predicates::{
+    intersections, winding_number, winding_number_clear_of, Heights, SlabIndex,
+};
 use super::segment::{BBox, CurveSpan, Point, Segment};
 
 /// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
@@ -426,21 +428,30 @@ fn for_each_overlapping_pair_in(
         SegmentGrid::new(all, boxes.iter().copied(), tol).for_each_pair(f);
         return PairSearch::Grid;
     }
+    // Which of a stretch of later boxes overlap this one, noted without a branch: along a
+    // loop about half of the boxes tested are hits (the neighbours along the loop), which a
+    // branch on each test would guess wrong half the time.
+    const STRETCH: usize = 64;
+    let mut hits = [0u32; STRETCH];
     for (a, (b, end)) in sorted.iter().enumerate() {
         // The boxes after this one that start before its right edge (a plain slice, so that
         // the loop is a counted one without bounds checks).
         let Some(later) = sorted.get(a + 1..*end as usize) else {
             continue;
         };
-        for (k, (o, _)) in later.iter().enumerate() {
-            // One branch on the whole test (`&` does not short-circuit): the four outcomes
-            // are hard to predict, their conjunction less so.
-            let hit = (o.min.x <= b.max.x)
-                & (b.min.x <= o.max.x)
-                & (o.min.y <= b.max.y)
-                & (b.min.y <= o.max.y);
-            if hit {
-                f(order[a], order[a + 1 + k]);
+        for (c, stretch) in later.chunks(STRETCH).enumerate() {
+            let mut m = 0;
+            for (k, (o, _)) in stretch.iter().enumerate() {
+                // `&` does not short-circuit: no branch on any of the four tests.
+                let hit = (o.min.x <= b.max.x)
+                    & (b.min.x <= o.max.x)
+                    & (o.min.y <= b.max.y)
+                    & (b.min.y <= o.max.y);
+                hits[m] = k as u32;
+                m += usize::from(hit);
+            }
+            for &k in &hits[..m] {
+                f(order[a], order[a + 1 + c * STRETCH + k as usize]);
             }
         }
     }
@@ -861,6 +872,9 @@ pub fn nest(
     // Boxed: a sheet of many loops holds a slot per loop, and only long, much-asked loops
     // get an index.
     let mut slabs: Vec<Option<Box<SlabIndex>>> = (0..loops.len()).map(|_| None).collect();
+    // A loop asked about more than once (an outline with holes) gets its segments' heights
+    // beside it (see `Heights`), until it is asked so often that it gets a slab index.
+    let mut heights: Vec<Option<Heights>> = (0..loops.len()).map(|_| None).collect();
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
     let mut duplicate = vec![false; loops.len()];
@@ -908,15 +922,20 @@ pub fn nest(
             queries[j] += 1;
             if slabs[j].is_none() && queries[j] > 32 && container.len() >= 64 {
                 slabs[j] = Some(Box::new(SlabIndex::new(container, tol)));
+                heights[j] = None;
+            } else if queries[j] == 2 && slabs[j].is_none() {
+                heights[j] = Some(Heights::new(container));
             }
-            let index = slabs[j].as_ref();
+            let (index, by_height) = (slabs[j].as_ref(), heights[j].as_ref());
             // The winding number around `q`: with a clearance, only if `q` is that clear of
             // the container (else `None`); without one, regardless.
-            let around = |q: Point, clearance: Option<f64>| match (index, clearance) {
-                (Some(ix), Some(c)) => ix.winding_number_clear_of(q, c),
-                (Some(ix), None) => Some(ix.winding_number(q)),
-                (None, Some(c)) => winding_number_clear_of(container, q, c),
-                (None, None) => Some(winding_number(container, q)),
+            let around = |q: Point, clearance: Option<f64>| match (index, by_height, clearance) {
+                (Some(ix), _, Some(c)) => ix.winding_number_clear_of(q, c),
+                (Some(ix), _, None) => Some(ix.winding_number(q)),
+                (None, Some(h), Some(c)) => h.winding_number_clear_of(q, c),
+                (None, Some(h), None) => Some(h.winding_number(q)),
+                (None, None, Some(c)) => winding_number_clear_of(container, q, c),
+                (None, None, None) => Some(winding_number(container, q)),
             };
             let w = (0..PROBES.min(n))
                 .find_map(|k| around(if k == 0 { first_probe } else { probe(k) }, Some(tol)))
@@ -1128,8 +1147,26 @@ mod tests {
 
     #[test]
     fn overlapping_pairs_are_found_exactly_once_by_the_sweep_and_by_the_grid() {
-        for (n, seed, tol) in [(2, 1, 0.0), (50, 2, 0.0), (400, 3, 0.5), (1000, 4, 1e-3)] {
-            let boxes = scattered(n, seed);
+        for (n, seed, tol, long) in [
+            (2, 1, 0.0, 0),
+            (50, 2, 0.0, 0),
+            (400, 3, 0.5, 0),
+            (1000, 4, 1e-3, 0),
+            (600, 5, 0.0, 3),
+        ] {
+            let mut boxes = scattered(n, seed);
+            // Boxes across the whole width, among the others: each meets hundreds of later
+            // boxes in the sweep, taken a stretch at a time.
+            for k in 0..long {
+                let y = 20.0 + 30.0 * k as f64;
+                boxes.insert(
+                    100 * k,
+                    BBox {
+                        min: Point::new(0.0, y),
+                        max: Point::new(104.0, y + 1.0),
+                    },
+                );
+            }
             let all = bounds(&boxes);
             let expected = all_pairs(&boxes, tol);
             let swept = reported(&boxes, tol, |f| {
