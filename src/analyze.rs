@@ -119,11 +119,9 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     };
     let mut lengths2: Vec<f64> = Vec::with_capacity(pieces.iter().map(|p| p.segments.len()).sum());
     let mut bbox = BBox::EMPTY;
-    for piece in pieces {
-        for s in &piece.segments {
-            bbox = bbox.union(&s.loose_bbox());
-            lengths2.push(len2(s));
-        }
+    for s in pieces.iter().flat_map(|p| p.segments.iter()) {
+        bbox = bbox.union(&s.loose_bbox());
+        lengths2.push(len2(s));
     }
     let extent = bbox.diagonal();
     let limit2 = (4.0 * extent_gap(extent)).powi(2);
