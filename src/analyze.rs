@@ -108,32 +108,31 @@ fn extent_gap(extent_mm: f64) -> f64 {
 /// count) when that is short enough to lower the default gap (under four times the gap by
 /// extent), infinity otherwise.
 pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
-    // Squared lengths: the order is the same, and only the chosen one needs a root. Taken in
-    // the same pass as the box, each segment's kind decided once (lines and arcs come mixed,
-    // and a pass that asks each segment its kind again costs a mispredicted branch on about
-    // every other segment); only lengths under four times the gap by extent can lower it.
+    let segments = || pieces.iter().flat_map(|p| p.segments.iter());
+    let extent = segments()
+        .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()))
+        .diagonal();
+    // Squared lengths: the order is the same, and only the chosen one needs a root. Only
+    // lengths under four times the gap by extent can lower it; they are counted first and
+    // gathered only when there are enough of them to matter.
     let len2 = |s: &Segment| match s {
         // A curve's chords count too: the gap must stay well below them.
         Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => (*b - *a).dot(*b - *a),
         Segment::Arc(arc) => arc.length() * arc.length(),
     };
-    let mut lengths2: Vec<f64> = Vec::with_capacity(pieces.iter().map(|p| p.segments.len()).sum());
-    let mut bbox = BBox::EMPTY;
-    for s in pieces.iter().flat_map(|p| p.segments.iter()) {
-        bbox = bbox.union(&s.loose_bbox());
-        lengths2.push(len2(s));
-    }
-    let extent = bbox.diagonal();
     let limit2 = (4.0 * extent_gap(extent)).powi(2);
     let (mut n, mut n_short) = (0usize, 0usize);
-    for &l2 in &lengths2 {
+    for l2 in segments().map(len2) {
         n += usize::from(l2 > 0.0);
         n_short += usize::from(l2 > 0.0 && l2 < limit2);
     }
     let k = n / 100;
     let short = if n_short > k {
-        lengths2.retain(|&l2| l2 > 0.0 && l2 < limit2);
-        lengths2.select_nth_unstable_by(k, f64::total_cmp).1.sqrt()
+        let mut short2: Vec<f64> = segments()
+            .map(len2)
+            .filter(|&l2| l2 > 0.0 && l2 < limit2)
+            .collect();
+        short2.select_nth_unstable_by(k, f64::total_cmp).1.sqrt()
     } else {
         f64::INFINITY
     };
