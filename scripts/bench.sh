@@ -9,19 +9,22 @@
 #   typical  N drawings of one profile each (50-2000 outline segments, 0-12 holes, clutter);
 #   heavy    HEAVY drawings (default 20) of one profile with a 50 000-segment outline;
 #   catalog  CATALOG sheets (default 20) of 200 profiles each.
-# For each set it takes the best wall-clock time of RUNS interleaved rounds (default 7) of:
+# For each set it takes the best wall-clock time of RUNS interleaved rounds (default 7) of
+# (in this order within a round, so that the pairs compared stand next to each other):
 #   floor    examples/parse_floor.rs: read, split code/value pairs, parse codes and floats;
+#   measure  target/release/sectio measure SET -o bench-out/result.csv (all cores);
+#   measure-j1  the same on one thread;
 #   dxf      examples/dxf_load.rs: load every file with the dxf crate, on all cores (rayon);
 #   dxf-1t   the same on one thread (RAYON_NUM_THREADS=1), as a program built on the dxf crate
 #            loads a folder; it reproduces issues 2 and 10's reference figure ("the dxf crate
-#            about 1.3 s" for 2000 typical files) where the all-core load does not;
-#   measure  target/release/sectio measure SET -o bench-out/result.csv (all cores);
-#   measure-j1  the same on one thread,
+#            about 1.3 s" for 2000 typical files) where the all-core load does not,
 # with the peak memory (maximum resident set) of that run, and prints files/s, profiles/s,
 # segments/s, MB/s and peak MB, then the ratios against issue 10's targets:
 #   measure within 1.3x the floor's time; at least 8x faster than the dxf crate's load (issue 2
 #   asks 5x), against both dxf timings; with both cores at least 1.8x the single-core
-#   throughput.
+#   throughput. Beside the ratios of the best times it prints the median and range of the
+#   same ratios taken round by round (measure against the floor run just before it, the
+#   one-thread run against the both-core run just before it).
 # Last, unless MANY=0: peak memory of one `measure` over MANY files (default 100 000: folders
 # of symbolic links to the typical drawings), target under 300 MB.
 # Environment: SEED (default 1), HEAVY, CATALOG, MANY, RUNS; MEASURE_ARGS (default
@@ -73,9 +76,10 @@ make_set() {
 # total NAME KEY: a figure of the set's totals line ("totals: files=... profiles=...").
 total() { sed -n "s/.* $2=\([0-9]*\).*/\1/p" "$OUT/$1.totals"; }
 
-declare -A secs peak status
+declare -A secs peak status every
 # run_once KEY CMD...: runs CMD once; keeps the fastest wall-clock time so far in secs[KEY]
-# and that run's peak memory (kB) in peak[KEY]. A run that exits above 1 (1 is `measure`'s
+# and that run's peak memory (kB) in peak[KEY], and every run's time in every[KEY] (in round
+# order, for the round-by-round ratios). A run that exits above 1 (1 is `measure`'s
 # "some profiles failed") stops the timing of KEY and is reported in status[KEY]. The steps
 # of a set are run in interleaved rounds (each step once per round, $RUNS rounds), so that a
 # change in the host's load over a minute falls on all of them alike.
@@ -94,6 +98,7 @@ run_once() {
         return 0
     fi
     t=$(awk -v a="$t0" -v b="$t1" 'BEGIN {printf "%.4f", b - a}')
+    every[$key]="${every[$key]:-} $t"
     if [[ -z "${secs[$key]:-}" ]] || awk -v t="$t" -v b="${secs[$key]}" 'BEGIN {exit !(t < b)}'; then
         secs[$key]=$t
         peak[$key]=$(tail -n 1 "$OUT/mem.txt")
@@ -102,6 +107,20 @@ run_once() {
 }
 
 ratio() { awk -v a="$1" -v b="$2" 'BEGIN {printf "%.2f", a / b}'; }
+# paired A B: the median and range of the ratios of A's to B's times round by round
+# ("1.38 (1.30-1.52)"), or "-" when either step has a run missing. Two steps run next to each
+# other in a round see about the same load of the host, so their ratio varies less than the
+# ratio of two bests, each of which may come from a quiet moment of its own.
+paired() {
+    awk -v a="${every["$1"]:-}" -v b="${every["$2"]:-}" 'BEGIN {
+        n = split(a, x, " "); m = split(b, y, " ");
+        if (n == 0 || n != m) { print "-"; exit }
+        for (i = 1; i <= n; i++) r[i] = x[i] / y[i];
+        for (i = 2; i <= n; i++) { v = r[i]; j = i - 1; while (j > 0 && r[j] > v) { r[j + 1] = r[j]; j-- } r[j + 1] = v }
+        med = (n % 2) ? r[(n + 1) / 2] : (r[n / 2] + r[n / 2 + 1]) / 2;
+        printf "%.2f (%.2f-%.2f)", med, r[1], r[n]
+    }'
+}
 verdict() { awk -v r="$1" -v t="$3" -v op="$2" 'BEGIN {ok = (op == "<=") ? (r <= t) : (r >= t); print ok ? "met" : "MISSED"}'; }
 
 mkdir -p "$OUT"
@@ -116,13 +135,14 @@ for set in typical heavy catalog; do
     [[ $(total "$set" files) -gt 0 ]] || continue
     echo "== $set: timing (best of $RUNS interleaved rounds, wall clock)"
     for _ in $(seq "$RUNS"); do
+        # The floor next to `measure`, and `measure` next to its one-thread run (see `paired`).
         run_once "$set floor" target/release/examples/parse_floor "$dir"
-        run_once "$set dxf" target/release/examples/dxf_load "$dir"
-        run_once "$set dxf-1t" env RAYON_NUM_THREADS=1 target/release/examples/dxf_load "$dir"
         # shellcheck disable=SC2086  # MEASURE_ARGS is a list of flags
         run_once "$set measure" "$sectio" measure "$dir" -o "$OUT/result.csv" $MEASURE_ARGS
         # shellcheck disable=SC2086
         run_once "$set measure-j1" "$sectio" measure "$dir" -j 1 -o "$OUT/result-j1.csv" $MEASURE_ARGS
+        run_once "$set dxf" target/release/examples/dxf_load "$dir"
+        run_once "$set dxf-1t" env RAYON_NUM_THREADS=1 target/release/examples/dxf_load "$dir"
     done
     rows=$(($(wc -l <"$OUT/result.csv") - 1))
     not_ok=$(awk -F, 'NR > 1 && $3 != "ok"' "$OUT/result.csv" | wc -l)
@@ -144,12 +164,14 @@ for set in typical heavy catalog; do
         r2=$(ratio "${secs["$set dxf"]}" "${secs["$set measure"]}")
         r2s=$(ratio "${secs["$set dxf-1t"]}" "${secs["$set measure"]}")
         r3=$(ratio "${secs["$set measure-j1"]}" "${secs["$set measure"]}")
-        printf 'measure/floor     %6s   target <= 1.3   %s\n' "$r1" "$(verdict "$r1" "<=" 1.3)"
+        p1=$(paired "$set measure" "$set floor")
+        p3=$(paired "$set measure-j1" "$set measure")
+        printf 'measure/floor     %6s   target <= 1.3   %s   (round by round: %s)\n' "$r1" "$(verdict "$r1" "<=" 1.3)" "$p1"
         printf 'dxf-load/measure  %6s   target >= 8     %s   (issue 2: >= 5 %s; dxf on all cores)\n' "$r2" "$(verdict "$r2" ">=" 8)" "$(verdict "$r2" ">=" 5)"
         printf 'dxf-1t/measure    %6s   target >= 8     %s   (issue 2: >= 5 %s; dxf on one thread)\n' "$r2s" "$(verdict "$r2s" ">=" 8)" "$(verdict "$r2s" ">=" 5)"
-        printf 'speed-up, 2 cores %6s   target >= 1.8   %s\n' "$r3" "$(verdict "$r3" ">=" 1.8)"
+        printf 'speed-up, 2 cores %6s   target >= 1.8   %s   (round by round: %s)\n' "$r3" "$(verdict "$r3" ">=" 1.8)" "$p3"
         printf 'dxf-load/floor    %6s   (for reference)\n' "$(ratio "${secs["$set dxf"]}" "${secs["$set floor"]}")"
-        summary+=("$(printf '%-8s measure/floor %s, dxf-load/measure %s (dxf on one thread: %s), 2-core speed-up %s' "$set" "$r1" "$r2" "$r2s" "$r3")")
+        summary+=("$(printf '%-8s measure/floor %s (round by round %s), dxf-load/measure %s (dxf on one thread: %s), 2-core speed-up %s (round by round %s)' "$set" "$r1" "$p1" "$r2" "$r2s" "$r3" "$p3")")
     fi
     echo
 done
