@@ -52,13 +52,7 @@ impl Loop {
     }
     /// The length of the loop: curve pieces count with their curve's length from `curves`.
     pub fn length(&self, curves: &[CurveSpan]) -> f64 {
-        self.segments
-            .iter()
-            .map(|s| match s {
-                Segment::Curve(c) => curves[c.span as usize].length,
-                s => s.length(),
-            })
-            .sum()
+        self.segments.iter().map(|s| exact_length(s, curves)).sum()
     }
     /// Reverse the direction of travel.
     pub fn reverse(&mut self) {
@@ -66,6 +60,14 @@ impl Loop {
         for s in &mut self.segments {
             *s = s.reversed();
         }
+    }
+}
+
+/// The length of a segment; a curve piece counts with its curve's length from `curves`.
+pub(crate) fn exact_length(s: &Segment, curves: &[CurveSpan]) -> f64 {
+    match s {
+        Segment::Curve(c) => curves[c.span as usize].length,
+        s => s.length(),
     }
 }
 

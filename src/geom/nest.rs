@@ -10,8 +10,8 @@
 
 use std::f64::consts::PI;
 
-use super::chain::{Loop, LoopProblem};
-use super::moments::{loop_moments, Moments};
+use super::chain::{exact_length, Loop, LoopProblem};
+use super::moments::{segment_moments, Moments};
 use super::predicates::{
     intersections, winding_number, winding_number_clear_of, Heights, SlabIndex,
 };
@@ -809,7 +809,18 @@ pub fn nest(
     let mut flat: Vec<(u32, LoopProblem)> = Vec::new();
     for (k, l) in loops.iter().enumerate() {
         let bb = l.exact_bbox(curves);
-        let m = loop_moments(&l.segments, bb.center(), curves);
+        // The integrals and the length in one pass: a large loop's segments are out of the
+        // cache again by the end of it.
+        let origin = bb.center();
+        let (m, length) = l
+            .segments
+            .iter()
+            .fold((Moments::default(), 0.0), |(m, length), s| {
+                (
+                    m + segment_moments(s, origin, curves),
+                    length + exact_length(s, curves),
+                )
+            });
         let area = m.a;
         // A loop with no area: below rounding noise for its size (common practice).
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
@@ -825,9 +836,9 @@ pub fn nest(
         info.push((area, bb));
         seqs.push(l.seq);
         moments.push(m);
-        // Measured here, while the loop's segments are in the cache, as is the first point
-        // tried for containment (see `probe` below).
-        lengths.push(l.length(curves));
+        // The first point tried for containment (see `probe` below), found here while the
+        // loop's segments are in the cache.
+        lengths.push(length);
         first_probes.push(probe_point(&l.segments, area > 0.0, 0, PROBES));
     }
     push_in_drawing_order(problems, flat);
