@@ -836,9 +836,9 @@ pub fn nest(
         info.push((area, bb));
         seqs.push(l.seq);
         moments.push(m);
+        lengths.push(length);
         // The first point tried for containment (see `probe` below), found here while the
         // loop's segments are in the cache.
-        lengths.push(length);
         first_probes.push(probe_point(&l.segments, area > 0.0, 0, PROBES));
     }
     push_in_drawing_order(problems, flat);

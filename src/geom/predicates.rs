@@ -311,13 +311,7 @@ impl<'a> SlabIndex<'a> {
     /// Index `segments` for points to be tested with a clearance of at most `clearance`.
     pub fn new(segments: &'a [Segment], clearance: f64) -> SlabIndex<'a> {
         let cl = clearance.max(0.0);
-        let ranges: Vec<(f64, f64)> = segments
-            .iter()
-            .map(|s| {
-                let b = s.loose_bbox();
-                (b.min.y - cl, b.max.y + cl)
-            })
-            .collect();
+        let ranges = height_ranges(segments, cl);
         let (lo, hi) = ranges
             .iter()
             .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), r| {
@@ -391,6 +385,17 @@ impl<'a> SlabIndex<'a> {
     }
 }
 
+/// The lowest and highest y of each segment's loose box, grown by `grow` each way.
+fn height_ranges(segments: &[Segment], grow: f64) -> Vec<(f64, f64)> {
+    segments
+        .iter()
+        .map(|s| {
+            let b = s.loose_bbox();
+            (b.min.y - grow, b.max.y + grow)
+        })
+        .collect()
+}
+
 /// A closed run's segments with the height range of each one's loose box beside them, for a
 /// few winding numbers around points of other loops (an outline with a dozen holes).
 ///
@@ -410,14 +415,10 @@ pub struct Heights<'a> {
 
 impl<'a> Heights<'a> {
     pub fn new(segments: &'a [Segment]) -> Heights<'a> {
-        let ranges = segments
-            .iter()
-            .map(|s| {
-                let b = s.loose_bbox();
-                (b.min.y, b.max.y)
-            })
-            .collect();
-        Heights { segments, ranges }
+        Heights {
+            segments,
+            ranges: height_ranges(segments, 0.0),
+        }
     }
 
     /// [`winding_number`] of the run around `p`.
