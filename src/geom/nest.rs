@@ -880,12 +880,10 @@ pub fn nest(
         r
     };
     let mut queries: Vec<u32> = vec![0; loops.len()];
-    // Boxed: a sheet of many loops holds a slot per loop, and only long, much-asked loops
-    // get an index.
-    let mut slabs: Vec<Option<Box<SlabIndex>>> = (0..loops.len()).map(|_| None).collect();
     // A loop asked about more than once (an outline with holes) gets its segments' heights
-    // beside it (see `Heights`), until it is asked so often that it gets a slab index.
-    let mut heights: Vec<Option<Heights>> = (0..loops.len()).map(|_| None).collect();
+    // beside it, and a long one asked about many times a slab index (see `Index`; the slab
+    // index boxed, so that a sheet of many loops keeps small slots).
+    let mut indexes: Vec<Option<Index>> = (0..loops.len()).map(|_| None).collect();
     let mut parent: Vec<Option<usize>> = vec![None; loops.len()];
     let mut depth: Vec<usize> = vec![0; loops.len()];
     let mut duplicate = vec![false; loops.len()];
@@ -928,25 +926,23 @@ pub fn nest(
                 break;
             }
             let container = &loops[j].segments;
-            // A long loop asked about many times (a plate with many holes) gets an index;
-            // building it costs about ten scans, so only after more than thirty.
             queries[j] += 1;
-            if slabs[j].is_none() && queries[j] > 32 && container.len() >= 64 {
-                slabs[j] = Some(Box::new(SlabIndex::new(container, tol)));
-                heights[j] = None;
-            } else if queries[j] == 2 && slabs[j].is_none() {
-                heights[j] = Some(Heights::new(container));
+            let slab_index_due = queries[j] > 32 && container.len() >= 64;
+            if slab_index_due && !matches!(indexes[j], Some(Index::Slabs(_))) {
+                indexes[j] = Some(Index::Slabs(Box::new(SlabIndex::new(container, tol))));
+            } else if queries[j] == 2 {
+                indexes[j] = Some(Index::Heights(Heights::new(container)));
             }
-            let (index, by_height) = (slabs[j].as_ref(), heights[j].as_ref());
+            let index = indexes[j].as_ref();
             // The winding number around `q`: with a clearance, only if `q` is that clear of
             // the container (else `None`); without one, regardless.
-            let around = |q: Point, clearance: Option<f64>| match (index, by_height, clearance) {
-                (Some(ix), _, Some(c)) => ix.winding_number_clear_of(q, c),
-                (Some(ix), _, None) => Some(ix.winding_number(q)),
-                (None, Some(h), Some(c)) => h.winding_number_clear_of(q, c),
-                (None, Some(h), None) => Some(h.winding_number(q)),
-                (None, None, Some(c)) => winding_number_clear_of(container, q, c),
-                (None, None, None) => Some(winding_number(container, q)),
+            let around = |q: Point, clearance: Option<f64>| match (index, clearance) {
+                (Some(Index::Slabs(ix)), Some(c)) => ix.winding_number_clear_of(q, c),
+                (Some(Index::Slabs(ix)), None) => Some(ix.winding_number(q)),
+                (Some(Index::Heights(h)), Some(c)) => h.winding_number_clear_of(q, c),
+                (Some(Index::Heights(h)), None) => Some(h.winding_number(q)),
+                (None, Some(c)) => winding_number_clear_of(container, q, c),
+                (None, None) => Some(winding_number(container, q)),
             };
             let w = (0..PROBES.min(n))
                 .find_map(|k| around(if k == 0 { first_probe } else { probe(k) }, Some(tol)))
@@ -1029,6 +1025,14 @@ pub fn nest(
         profiles,
         duplicate_loops: duplicate.iter().filter(|&&d| d).count(),
     }
+}
+
+/// What a loop asked about for containment more than once keeps to answer faster: its
+/// segments' heights (from the second question), or a slab index (a long loop, past thirty
+/// questions: building it costs about ten scans).
+enum Index<'a> {
+    Heights(Heights<'a>),
+    Slabs(Box<SlabIndex<'a>>),
 }
 
 /// Point `k` of the `probes` points of a loop tried for containment: the midpoint of a
