@@ -108,31 +108,41 @@ fn extent_gap(extent_mm: f64) -> f64 {
 /// count) when that is short enough to lower the default gap (under four times the gap by
 /// extent), infinity otherwise.
 pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
-    let segments = || pieces.iter().flat_map(|p| p.segments.iter());
-    let extent = segments()
-        .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()))
-        .diagonal();
-    // Squared lengths: the order is the same, and only the chosen one needs a root. Only
-    // lengths under four times the gap by extent can lower it; they are counted first and
-    // gathered only when there are enough of them to matter.
-    let len2 = |s: &Segment| match s {
-        // A curve's chords count too: the gap must stay well below them.
-        Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => (*b - *a).dot(*b - *a),
-        Segment::Arc(arc) => arc.length() * arc.length(),
-    };
-    let limit2 = (4.0 * extent_gap(extent)).powi(2);
-    let (mut n, mut n_short) = (0usize, 0usize);
-    for l2 in segments().map(len2) {
-        n += usize::from(l2 > 0.0);
-        n_short += usize::from(l2 > 0.0 && l2 < limit2);
+    // One pass: the box, the number of lengths above zero, and the few lengths that could
+    // count as short whatever the extent turns out to be. The gap by extent is at most
+    // 0.05 mm, so only lengths under four times that can lower it: their squares are kept
+    // (most drawings have none) and sorted out against the real limit below. Squared
+    // lengths keep the order, and only the chosen one needs a root.
+    const MOST_SHORT2: f64 = (4.0 * 0.05) * (4.0 * 0.05);
+    let mut bbox = BBox::EMPTY;
+    let mut n = 0usize;
+    let mut candidates: Vec<f64> = Vec::new();
+    for p in pieces {
+        for s in &p.segments {
+            bbox = bbox.union(&s.loose_bbox());
+            let l2 = match s {
+                // A curve's chords count too: the gap must stay well below them.
+                Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
+                    (*b - *a).dot(*b - *a)
+                }
+                Segment::Arc(arc) => arc.length() * arc.length(),
+            };
+            n += usize::from(l2 > 0.0);
+            if l2 > 0.0 && l2 < MOST_SHORT2 {
+                candidates.push(l2);
+            }
+        }
     }
+    let extent = bbox.diagonal();
+    let limit2 = (4.0 * extent_gap(extent)).powi(2);
+    debug_assert!(limit2 <= MOST_SHORT2);
+    candidates.retain(|&l2| l2 < limit2);
     let k = n / 100;
-    let short = if n_short > k {
-        let mut short2: Vec<f64> = segments()
-            .map(len2)
-            .filter(|&l2| l2 > 0.0 && l2 < limit2)
-            .collect();
-        short2.select_nth_unstable_by(k, f64::total_cmp).1.sqrt()
+    let short = if candidates.len() > k {
+        candidates
+            .select_nth_unstable_by(k, f64::total_cmp)
+            .1
+            .sqrt()
     } else {
         f64::INFINITY
     };
@@ -646,6 +656,11 @@ mod tests {
         ];
         // Edges far longer than four times the gap by extent (4·0.005 mm): no short length.
         assert_eq!(drawing_scale(&[piece(rect.clone())]), (50.0, f64::INFINITY));
+        // Edges of 0.1 mm beside it are short for a larger drawing (under 0.2 mm), but not
+        // for this one: still no short length.
+        let tiny: Vec<Segment> = rect.iter().map(|s| s.scaled(0.1 / 30.0)).collect();
+        let (extent, short) = drawing_scale(&[piece(rect.clone()), piece(tiny)]);
+        assert_eq!((extent, short), (50.0, f64::INFINITY));
         // The rectangle with a 1000 mm bar beside it (gap by extent 0.05 mm): edges of 0.03
         // and 0.04 mm are short; the shortest is the 1st percentile of five.
         let small: Vec<Segment> = rect.iter().map(|s| s.scaled(1e-3)).collect();
