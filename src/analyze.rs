@@ -529,20 +529,26 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         msg.push_str(&hint);
         return MeasuredDrawing::file_row(&units_label, msg, drawing.curves);
     }
-    // Reading order: left to right by the left edge of each box, then bottom to top.
-    items.sort_by(|a, b| {
-        a.key
-            .0
-            .total_cmp(&b.key.0)
-            .then(a.key.1.total_cmp(&b.key.1))
+    // Reading order: left to right by the left edge of each box, then bottom to top, rows
+    // at the same place in the order made. The keys are sorted, not the rows (each row
+    // holds its properties: moving rows about would copy hundreds of bytes a step).
+    let mut order: Vec<((f64, f64), u32)> = items
+        .iter()
+        .enumerate()
+        .map(|(k, it)| (it.key, k as u32))
+        .collect();
+    order.sort_unstable_by(|(a, i), (b, j)| {
+        a.0.total_cmp(&b.0).then(a.1.total_cmp(&b.1)).then(i.cmp(j))
     });
+    let mut items: Vec<Option<Item>> = items.into_iter().map(Some).collect();
     // Each profile belongs to at most one row (the ranges are disjoint), so each is moved
     // out once.
     let mut slots: Vec<Option<Profile>> = profiles.into_iter().map(Some).collect();
     let mut outcomes = Vec::with_capacity(items.len());
     let mut row_profiles = Vec::with_capacity(items.len());
     let mut row_problems = Vec::with_capacity(items.len());
-    for (i, mut it) in items.into_iter().enumerate() {
+    let in_order = order.iter().filter_map(|&(_, k)| items[k as usize].take());
+    for (i, mut it) in in_order.enumerate() {
         it.outcome.profile = i + 1;
         outcomes.push(it.outcome);
         row_problems.push(it.problem_boxes);
