@@ -933,14 +933,27 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
                 }
             }
         };
-    // The segments of a walk's steps, in the order given, each run oriented head to tail
+    // The segments of a walk's steps, from step `start` on, each run oriented head to tail
     // with its ends snapped onto the nodes: copied once, into a vector of exactly their
-    // number. `back` takes every step the other way round (a loop walked against its first
-    // run's direction).
-    let segments_of = |steps: &[Step], order: &mut dyn Iterator<Item = usize>, back: bool| {
+    // number. Forward, the steps follow on from `start` round to the one before it; `back`
+    // takes them from `start` down to the first, then from the last down, each the other
+    // way round (a loop walked against its first run's direction).
+    let segments_of = |steps: &[Step], start: usize, back: bool| {
         let total = steps.iter().map(|s| runs.len_of(s.run as usize)).sum();
         let mut out: Vec<Segment> = Vec::with_capacity(total);
-        for k in order {
+        let m = steps.len();
+        for i in 0..m {
+            let k = if back {
+                if i <= start {
+                    start - i
+                } else {
+                    start + m - i
+                }
+            } else if start + i < m {
+                start + i
+            } else {
+                start + i - m
+            };
             let Step {
                 run,
                 forward,
@@ -953,13 +966,19 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
                 (forward, from, to)
             };
             let run = runs.run(run as usize);
+            let (from, to) = (nodes.pos[from as usize], nodes.pos[to as usize]);
+            // Most runs are one loose LINE or ARC: snapped once, as it is put in.
+            if let [one] = run {
+                let one = if forward { *one } else { one.reversed() };
+                out.push(snapped(one, from, to));
+                continue;
+            }
             let first = out.len();
             if forward {
                 out.extend_from_slice(run);
             } else {
                 out.extend(run.iter().rev().map(Segment::reversed));
             }
-            let (from, to) = (nodes.pos[from as usize], nodes.pos[to as usize]);
             out[first] = snapped(out[first], from, out[first].end());
             let last = out.len() - 1;
             out[last] = snapped(out[last], out[last].start(), to);
@@ -974,7 +993,7 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             let r = touching(n)[0];
             if !used[r as usize] {
                 walk(n, r, &mut used, &mut steps);
-                let run = segments_of(&steps, &mut (0..steps.len()), false);
+                let run = segments_of(&steps, 0, false);
                 open.push((run, runs.piece[r as usize] as usize));
             }
         }
@@ -995,17 +1014,12 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             let first = steps[e].run as usize;
             let piece = runs.piece[first] as usize;
             let (layer, origin) = &meta[piece];
-            let m = steps.len();
             if closed {
                 // From the first run on: forward, or the whole loop the other way round.
-                let run = if steps[e].forward {
-                    segments_of(&steps, &mut (e..m).chain(0..e), false)
-                } else {
-                    segments_of(&steps, &mut (0..=e).rev().chain((e + 1..m).rev()), true)
-                };
+                let run = segments_of(&steps, e, !steps[e].forward);
                 found.push((perm[first], close_up(run, layer.clone(), *origin, 0)));
             } else {
-                let run = segments_of(&steps, &mut (0..m), false);
+                let run = segments_of(&steps, 0, false);
                 open.push((run, piece));
             }
         }
@@ -1315,24 +1329,31 @@ mod tests {
     #[test]
     fn a_loop_starts_with_its_first_entity_in_the_drawing_going_its_way() {
         // Squares side by side in a scrambled order, their edges listed in scrambled orders
-        // and directions. The first edge listed runs one way round the square in every
-        // second square and the other way in the others, so that the walk that finds the
-        // loop meets it going either way. 40 squares are walked in drawing order, 1100
-        // (4400 runs) in memory order and then turned.
+        // and directions. Which edge is listed first changes from square to square, and it
+        // runs one way round the square in some squares and the other way in others, so
+        // that the walk that finds a loop meets its first edge at any of its four steps,
+        // going either way. 40 squares are walked in drawing order, 1100 (4400 runs) in
+        // memory order and then turned.
         let p = |x: f64, y: f64| Point::new(x, y);
         for squares in [40usize, 1100] {
             let mut edges = Vec::new();
             for k in 0..squares {
                 let x = (k * 37 % squares) as f64 * 3.0;
                 let c = [p(x, 0.0), p(x + 2.0, 0.0), p(x + 2.0, 2.0), p(x, 2.0)];
-                edges.push(if k % 2 == 0 {
-                    Segment::line(c[3], c[2])
-                } else {
-                    Segment::line(c[2], c[3])
-                });
-                edges.push(Segment::line(c[0], c[1]));
-                edges.push(Segment::line(c[0], c[3]));
-                edges.push(Segment::line(c[1], c[2]));
+                // Edge j of the square, counter-clockwise, or turned round.
+                let edge = |j: usize, turned: bool| {
+                    let (a, b) = (c[j % 4], c[(j + 1) % 4]);
+                    if turned {
+                        Segment::line(b, a)
+                    } else {
+                        Segment::line(a, b)
+                    }
+                };
+                let first = k % 4;
+                edges.push(edge(first, k / 4 % 2 == 1));
+                for (n, j) in [3, 1, 2].into_iter().enumerate() {
+                    edges.push(edge(first + j, (k + n) % 3 == 0));
+                }
             }
             let chained = chain(loose(&edges), 1e-6);
             assert_eq!(chained.loops.len(), squares);
