@@ -826,26 +826,31 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     let mut twins = 0;
     for n in 0..n_nodes as u32 {
         let t = touching(n);
+        // The node at the other end of run r.
+        let other = |r: u32| {
+            let (x, y) = ends[r as usize];
+            if x == n {
+                y
+            } else {
+                x
+            }
+        };
         for (k, &r1) in t.iter().enumerate() {
             for &r2 in &t[k + 1..] {
+                // Most pairs at a node go on to different nodes: that is asked first.
+                if other(r1) != other(r2) || r1 == r2 {
+                    continue;
+                }
                 let (r1, r2) = if perm[r1 as usize] < perm[r2 as usize] {
                     (r1 as usize, r2 as usize)
                 } else {
                     (r2 as usize, r1 as usize)
                 };
-                let (a, b) = (runs.run(r1), runs.run(r2));
-                if r1 == r2 || twin[r1] || twin[r2] || a.len() != 1 || b.len() != 1 {
+                if twin[r1] || twin[r2] {
                     continue;
                 }
-                let other = |r: usize| {
-                    let (x, y) = ends[r];
-                    if x == n {
-                        y
-                    } else {
-                        x
-                    }
-                };
-                if other(r1) == other(r2) && seg_key(&a[0], q) == seg_key(&b[0], q) {
+                let (a, b) = (runs.run(r1), runs.run(r2));
+                if a.len() == 1 && b.len() == 1 && seg_key(&a[0], q) == seg_key(&b[0], q) {
                     twin[r2] = true;
                     twins += 1;
                 }
