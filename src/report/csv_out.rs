@@ -109,7 +109,9 @@ pub fn push_number(out: &mut String, v: f64, decimal_comma: bool) {
         out.push('0');
         return;
     }
-    let exp = v.abs().log10().floor() as i32;
+    // ⌊log10 |v|⌋ by a cast and a correction (`f64::floor` is a library call).
+    let l = v.abs().log10();
+    let exp = (l as i32) - i32::from(l < (l as i32) as f64);
     if (-5..15).contains(&exp) {
         let decimals = (11 - exp).max(0) as usize;
         push_fixed(out, v, decimals);
@@ -161,28 +163,35 @@ fn push_fixed(out: &mut String, v: f64, decimals: usize) {
     let lo = ((ah * ph - hi) + ah * pl + al * ph) + al * pl;
     // Round hi + lo to an integer: the part above the floor is exact, and so is its
     // difference from a half; adding lo then keeps the sign of the exact difference.
-    let f = hi.floor();
+    // The floor by a cast (hi is below 2^52 and not negative; `f64::floor` is a library
+    // call on the baseline x86-64 target).
+    let whole = hi as u64;
+    let f = whole as f64;
     let d = ((hi - f) - 0.5) + lo;
-    let up = d > 0.0 || (d == 0.0 && f % 2.0 == 1.0);
-    let m = f as u64 + u64::from(up);
-    // Digits of m, with the point put `decimals` from the right (zeros in front as needed).
-    let mut digits = [0u8; 24];
-    let mut n = 0;
+    let up = d > 0.0 || (d == 0.0 && whole % 2 == 1);
+    let m = whole + u64::from(up);
+    // The text, written from the right into a buffer: the digits of m with the point put
+    // `decimals` from the right (zeros in front as needed), and the sign.
+    let mut text = [0u8; 26];
+    let mut at = text.len();
     let mut rest = m;
+    let mut n = 0;
     while rest > 0 || n <= decimals {
-        digits[n] = b'0' + (rest % 10) as u8;
+        if n == decimals && decimals > 0 {
+            at -= 1;
+            text[at] = b'.';
+        }
+        at -= 1;
+        text[at] = b'0' + (rest % 10) as u8;
         rest /= 10;
         n += 1;
     }
     if v.is_sign_negative() {
-        out.push('-');
+        at -= 1;
+        text[at] = b'-';
     }
-    for k in (0..n).rev() {
-        out.push(digits[k] as char);
-        if k == decimals && decimals > 0 {
-            out.push('.');
-        }
-    }
+    // Only ASCII digits, a point and a sign were written.
+    out.push_str(std::str::from_utf8(&text[at..]).unwrap_or_default());
 }
 
 /// Drop trailing zeros after a decimal point (and the point itself if nothing follows) from
