@@ -16,7 +16,7 @@
 use std::collections::HashMap;
 use std::hash::{Hash, Hasher};
 
-use super::segment::{BBox, CurveSpan, Point, Segment};
+use super::segment::{floor_i64, BBox, CurveSpan, Point, Segment};
 use crate::import::{LayerName, Origin, Piece};
 
 /// A closed loop of segments, each starting where the previous one ends.
@@ -526,13 +526,6 @@ fn snapped(seg: Segment, start: Point, end: Point) -> Segment {
             Segment::Arc(arc)
         }
     }
-}
-
-/// ⌊v⌋ as an integer by a cast and a correction (`f64::floor` is a library call on the
-/// baseline x86-64 target).
-fn floor_i64(v: f64) -> i64 {
-    let t = v as i64;
-    t.wrapping_sub(i64::from((t as f64) > v))
 }
 
 /// No node (also "no twin" in `chain`'s fingerprint lists).

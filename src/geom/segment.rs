@@ -72,6 +72,13 @@ impl Neg for Point {
     }
 }
 
+/// ⌊v⌋ as an integer by a cast and a correction (`f64::floor` is a library call on the
+/// baseline x86-64 target).
+pub(crate) fn floor_i64(v: f64) -> i64 {
+    let t = v as i64;
+    t.wrapping_sub(i64::from((t as f64) > v))
+}
+
 /// `v` turned counter-clockwise by `angle` radians.
 pub fn rotated(v: Point, angle: f64) -> Point {
     let (s, c) = angle.sin_cos();

@@ -3,6 +3,7 @@
 use std::io::Write;
 
 use super::{header, numeric_values, Row, Tiers};
+use crate::geom::segment::floor_i64;
 use crate::import::LengthUnit;
 
 /// How numbers and fields are written.
@@ -109,9 +110,8 @@ pub fn push_number(out: &mut String, v: f64, decimal_comma: bool) {
         out.push('0');
         return;
     }
-    // ⌊log10 |v|⌋ by a cast and a correction (`f64::floor` is a library call).
-    let l = v.abs().log10();
-    let exp = (l as i32) - i32::from(l < (l as i32) as f64);
+    // A finite v other than zero has a logarithm between −324 and 309.
+    let exp = floor_i64(v.abs().log10()) as i32;
     if (-5..15).contains(&exp) {
         let decimals = (11 - exp).max(0) as usize;
         push_fixed(out, v, decimals);
