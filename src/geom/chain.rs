@@ -50,10 +50,6 @@ impl Loop {
             s => b.union(&s.bbox()),
         })
     }
-    /// The length of the loop: curve pieces count with their curve's length from `curves`.
-    pub fn length(&self, curves: &[CurveSpan]) -> f64 {
-        self.segments.iter().map(|s| exact_length(s, curves)).sum()
-    }
     /// Reverse the direction of travel.
     pub fn reverse(&mut self) {
         self.segments.reverse();
