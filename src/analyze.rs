@@ -93,13 +93,16 @@ fn gap_floor(extent_mm: f64) -> f64 {
     }
 }
 
-/// The gap by extent alone: 1e-4 of it, kept between the floor and 0.05 mm.
+/// The largest default gap, in millimetres.
+const MAX_GAP_MM: f64 = 0.05;
+
+/// The gap by extent alone: 1e-4 of it, kept between the floor and [`MAX_GAP_MM`].
 fn extent_gap(extent_mm: f64) -> f64 {
     let gap = extent_mm * 1e-4;
     if gap.is_nan() {
         gap_floor(extent_mm)
     } else {
-        gap.clamp(gap_floor(extent_mm), 0.05)
+        gap.clamp(gap_floor(extent_mm), MAX_GAP_MM)
     }
 }
 
@@ -110,10 +113,10 @@ fn extent_gap(extent_mm: f64) -> f64 {
 pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     // One pass: the box, the number of lengths above zero, and the few lengths that could
     // count as short whatever the extent turns out to be. The gap by extent is at most
-    // 0.05 mm, so only lengths under four times that can lower it: their squares are kept
-    // (most drawings have none) and sorted out against the real limit below. Squared
+    // `MAX_GAP_MM`, so only lengths under four times that can lower it: their squares are
+    // kept (most drawings have none) and sorted out against the real limit below. Squared
     // lengths keep the order, and only the chosen one needs a root.
-    const MOST_SHORT2: f64 = (4.0 * 0.05) * (4.0 * 0.05);
+    const MOST_SHORT2: f64 = (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM);
     let mut bbox = BBox::EMPTY;
     let mut n = 0usize;
     let mut candidates: Vec<f64> = Vec::new();
