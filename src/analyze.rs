@@ -4,7 +4,8 @@ use std::collections::BTreeMap;
 
 use crate::fem::{torsion_props, TorsionSettings};
 use crate::geom::{
-    chain, drop_crossing_loops, nest, BBox, CurvePiece, CurveTable, LoopProblem, Profile, Segment,
+    chain, drop_crossing_loops, nest, BBox, CurvePiece, CurveTable, LoopProblem, Point, Profile,
+    Segment,
 };
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
@@ -118,17 +119,34 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     // lengths keep the order, and only the chosen one needs a root.
     const MOST_SHORT2: f64 = (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM);
     let mut bbox = BBox::EMPTY;
+    // The box grown point by point with plain comparisons, which compile to one instruction
+    // each where `f64::min` and `f64::max` take four. A comparison with NaN is false, so a
+    // NaN coordinate is passed over exactly as they pass it over (the box itself never holds
+    // NaN: it starts empty and only takes numbers that compared smaller or larger). A loose
+    // box adds its two corners, as `BBox::union` does.
+    let mut add = |p: Point| {
+        bbox.min.x = if p.x < bbox.min.x { p.x } else { bbox.min.x };
+        bbox.min.y = if p.y < bbox.min.y { p.y } else { bbox.min.y };
+        bbox.max.x = if p.x > bbox.max.x { p.x } else { bbox.max.x };
+        bbox.max.y = if p.y > bbox.max.y { p.y } else { bbox.max.y };
+    };
     let mut n = 0usize;
     let mut candidates: Vec<f64> = Vec::new();
     for p in pieces {
         for s in &p.segments {
-            bbox = bbox.union(&s.loose_bbox());
             let l2 = match s {
                 // A curve's chords count too: the gap must stay well below them.
                 Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
+                    add(*a);
+                    add(*b);
                     (*b - *a).dot(*b - *a)
                 }
-                Segment::Arc(arc) => arc.length() * arc.length(),
+                Segment::Arc(arc) => {
+                    let b = arc.loose_bbox();
+                    add(b.min);
+                    add(b.max);
+                    arc.length() * arc.length()
+                }
             };
             n += usize::from(l2 > 0.0);
             if l2 > 0.0 && l2 < MOST_SHORT2 {
@@ -685,6 +703,55 @@ mod tests {
         let short = drawing_scale(&[piece(many), piece(bar)]).1;
         assert!((short - 0.03).abs() < 1e-15);
         assert_eq!(drawing_scale(&[]).1, f64::INFINITY);
+    }
+
+    /// The extent is the diagonal of the union of the segments' loose boxes taken with
+    /// `BBox::union`, also when some coordinates are NaN (passed over, not spread) and with
+    /// arcs of both kinds of loose box.
+    #[test]
+    fn drawing_scale_extent_is_the_union_of_loose_boxes_even_with_nan() {
+        let piece = |segments: Vec<Segment>| Piece {
+            segments,
+            closed: false,
+            layer: "0".into(),
+            origin: Origin {
+                entity: "TEST",
+                location: Location::Line(1),
+                handle: None,
+                in_block: false,
+            },
+        };
+        let nan = f64::NAN;
+        let p = Point::new;
+        let segments = vec![
+            Segment::line(p(nan, 2.0), p(5.0, nan)),
+            Segment::line(p(-3.0, 1.0), p(nan, nan)),
+            Segment::line(p(1.0, -7.0), p(2.0, 4.0)),
+            // A quarter circle (box from its chord and sagitta) and a three-quarter one (box
+            // of its circle), far out; an arc with a NaN radius.
+            Segment::Arc(crate::geom::Arc::from_center(p(100.0, 0.0), 10.0, 0.0, 1.5)),
+            Segment::Arc(crate::geom::Arc::from_center(p(0.0, 200.0), 20.0, 1.0, 4.5)),
+            Segment::Arc(crate::geom::Arc::from_center(p(0.0, 0.0), nan, 0.0, 1.0)),
+        ];
+        let expected = segments
+            .iter()
+            .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()));
+        assert!(expected.diagonal().is_finite());
+        // Each segment alone, every order of two, and all of them.
+        for (i, s) in segments.iter().enumerate() {
+            let alone = BBox::EMPTY.union(&s.loose_bbox()).diagonal();
+            assert_eq!(
+                drawing_scale(&[piece(vec![*s])]).0.to_bits(),
+                alone.to_bits(),
+                "{i}"
+            );
+            for t in &segments {
+                let two = BBox::EMPTY.union(&s.loose_bbox()).union(&t.loose_bbox());
+                let got = drawing_scale(&[piece(vec![*s]), piece(vec![*t])]).0;
+                assert_eq!(got.to_bits(), two.diagonal().to_bits());
+            }
+        }
+        assert_eq!(drawing_scale(&[piece(segments)]).0, expected.diagonal());
     }
 
     /// A tube drawn with curve pieces (chords plus span table) measures like the exact one:
