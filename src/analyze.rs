@@ -4,8 +4,7 @@ use std::collections::BTreeMap;
 
 use crate::fem::{torsion_props, TorsionSettings};
 use crate::geom::{
-    chain, drop_crossing_loops, nest, BBox, CurvePiece, CurveTable, LoopProblem, Point, Profile,
-    Segment,
+    chain, drop_crossing_loops, nest, BBox, CurvePiece, CurveTable, LoopProblem, Profile, Segment,
 };
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
@@ -118,18 +117,9 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     // kept (most drawings have none) and sorted out against the real limit below. Squared
     // lengths keep the order, and only the chosen one needs a root.
     const MOST_SHORT2: f64 = (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM);
+    // The box grown with plain comparisons (`BBox::grow`; it starts empty, so this is
+    // `BBox::union` of the loose boxes, NaN coordinates passed over), a line by its ends.
     let mut bbox = BBox::EMPTY;
-    // The box grown point by point with plain comparisons, which compile to one instruction
-    // each where `f64::min` and `f64::max` take four. A comparison with NaN is false, so a
-    // NaN coordinate is passed over exactly as they pass it over (the box itself never holds
-    // NaN: it starts empty and only takes numbers that compared smaller or larger). A loose
-    // box adds its two corners, as `BBox::union` does.
-    let mut add = |p: Point| {
-        bbox.min.x = if p.x < bbox.min.x { p.x } else { bbox.min.x };
-        bbox.min.y = if p.y < bbox.min.y { p.y } else { bbox.min.y };
-        bbox.max.x = if p.x > bbox.max.x { p.x } else { bbox.max.x };
-        bbox.max.y = if p.y > bbox.max.y { p.y } else { bbox.max.y };
-    };
     let mut n = 0usize;
     let mut candidates: Vec<f64> = Vec::new();
     for p in pieces {
@@ -137,14 +127,11 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
             let l2 = match s {
                 // A curve's chords count too: the gap must stay well below them.
                 Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
-                    add(*a);
-                    add(*b);
+                    bbox = bbox.grow_point(*a).grow_point(*b);
                     (*b - *a).dot(*b - *a)
                 }
                 Segment::Arc(arc) => {
-                    let b = arc.loose_bbox();
-                    add(b.min);
-                    add(b.max);
+                    bbox = bbox.grow(&arc.loose_bbox());
                     arc.length() * arc.length()
                 }
             };

@@ -41,13 +41,13 @@ impl Loop {
     pub fn bbox(&self) -> BBox {
         self.segments
             .iter()
-            .fold(BBox::EMPTY, |b, s| b.union(&s.bbox()))
+            .fold(BBox::EMPTY, |b, s| b.grow(&s.bbox()))
     }
     /// The exact box of the loop: curve pieces count with their curve's box from `curves`.
     pub fn exact_bbox(&self, curves: &[CurveSpan]) -> BBox {
         self.segments.iter().fold(BBox::EMPTY, |b, s| match s {
-            Segment::Curve(c) => b.union(&curves[c.span as usize].bbox),
-            s => b.union(&s.bbox()),
+            Segment::Curve(c) => b.grow(&curves[c.span as usize].bbox),
+            s => b.grow(&s.bbox()),
         })
     }
     /// Reverse the direction of travel.
@@ -318,7 +318,7 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
         // Fingerprint: the run's box, quantised like the keys; cheap, and equal for twins.
         let bb = kept
             .iter()
-            .fold(BBox::EMPTY, |b, s| b.union(&s.loose_bbox()));
+            .fold(BBox::EMPTY, |b, s| b.grow(&s.loose_bbox()));
         let sum = {
             let mut h = FastHasher::default();
             seg_key(&Segment::line(bb.min, bb.max), q).hash(&mut h);

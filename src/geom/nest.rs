@@ -120,7 +120,7 @@ fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point,
         first_item.push(first as u32);
         for s in &l.segments {
             let bbox = s.loose_bbox();
-            all = all.union(&bbox);
+            all = all.grow(&bbox);
             boxes.push(bbox);
         }
         let n = l.segments.len();
@@ -229,7 +229,7 @@ fn for_each_pair_in_groups(
         .map(|l| {
             boxes[items_of(l)]
                 .iter()
-                .fold(BBox::EMPTY, |a, b| a.union(b))
+                .fold(BBox::EMPTY, |a, b| a.grow(b))
         })
         .collect();
     // Groups by union-find (with path halving) over the overlapping pairs of loop boxes; a
