@@ -642,9 +642,9 @@ mod tests {
         assert_eq!(default_join_gap(100.0, 1e-9), 1e-6); // never below the floor
     }
 
-    #[test]
-    fn drawing_scale_is_the_box_diagonal_and_a_low_percentile_of_lengths() {
-        let piece = |segments: Vec<Segment>| Piece {
+    /// A piece of `segments` for `drawing_scale` (which reads nothing else of it).
+    fn piece(segments: Vec<Segment>) -> Piece {
+        Piece {
             segments,
             closed: true,
             layer: "0".into(),
@@ -654,7 +654,11 @@ mod tests {
                 handle: None,
                 in_block: false,
             },
-        };
+        }
+    }
+
+    #[test]
+    fn drawing_scale_is_the_box_diagonal_and_a_low_percentile_of_lengths() {
         let (a, b, c, d) = (
             Point::new(0.0, 0.0),
             Point::new(30.0, 0.0),
@@ -697,17 +701,6 @@ mod tests {
     /// arcs of both kinds of loose box.
     #[test]
     fn drawing_scale_extent_is_the_union_of_loose_boxes_even_with_nan() {
-        let piece = |segments: Vec<Segment>| Piece {
-            segments,
-            closed: false,
-            layer: "0".into(),
-            origin: Origin {
-                entity: "TEST",
-                location: Location::Line(1),
-                handle: None,
-                in_block: false,
-            },
-        };
         let nan = f64::NAN;
         let p = Point::new;
         let segments = vec![
