@@ -405,6 +405,53 @@ fn selected_layers() {
     assert_eq!(skipped(&d, "layer not selected: dims"), 1);
 }
 
+/// Entities on a left-out layer are passed over from their layer name on, numbers unparsed
+/// (issue 10: "parse numbers only for kept entities"): a number no parser takes ("1,5", a
+/// decimal comma) after the layer name stops the file only when the layer is read.
+#[test]
+fn left_out_layers_are_passed_over_without_their_numbers() {
+    let bad = "1,5";
+    let ents = format!(
+        "0\nLINE\n8\ndims\n10\n{bad}\n20\n0\n11\n1\n21\n0\n\
+         0\nARC\n8\ndims\n10\n0\n20\n0\n40\n{bad}\n50\n0\n51\n90\n\
+         0\nCIRCLE\n8\ndims\n10\n0\n20\n{bad}\n40\n1\n\
+         0\nLWPOLYLINE\n8\ndims\n90\n2\n70\n0\n10\n0\n20\n0\n10\n{bad}\n20\n0\n\
+         0\nPOLYLINE\n8\ndims\n66\n1\n70\n0\n\
+         0\nVERTEX\n8\ndims\n10\n0\n20\n0\n0\nVERTEX\n8\ndims\n10\n{bad}\n20\n0\n0\nSEQEND\n\
+         0\nELLIPSE\n8\ndims\n10\n0\n20\n0\n11\n{bad}\n21\n0\n40\n0.5\n\
+         0\nSPLINE\n8\ndims\n70\n8\n71\n1\n40\n0\n40\n0\n40\n1\n40\n1\n\
+         10\n0\n20\n0\n10\n{bad}\n20\n1\n\
+         0\nLINE\n8\ndims\n67\n1\n10\n{bad}\n20\n0\n11\n1\n21\n0\n\
+         0\nLINE\n8\ndims\n8\nVisible\n10\n{bad}\n20\n0\n11\n1\n21\n0\n\
+         0\nPOLYLINE\n8\nVisible\n66\n1\n70\n8\n\
+         0\nVERTEX\n10\n{bad}\n20\n0\n30\n0\n0\nSEQEND\n\
+         {}",
+        one_line_on("Visible")
+    );
+    let text = drawing(LAYERS, &ents);
+    let sel = ReadOptions {
+        layers: vec!["Visible".into()],
+        ..ReadOptions::default()
+    };
+    let d = read(text.as_bytes(), &sel).expect("no number of a left-out entity is parsed");
+    assert_eq!(d.pieces.len(), 1);
+    assert_eq!(&*d.pieces[0].layer, "Visible");
+    // Seven entities, one of each kind, and the one whose first layer name is "dims" (of two
+    // layer names the first counts, as in the census).
+    assert_eq!(skipped(&d, "layer not selected: dims"), 8);
+    // Paper space is counted as such, though group 67 comes after the layer name.
+    assert_eq!(skipped(&d, "paper space"), 1);
+    // A 3-D polyline on a kept layer is counted as before, its vertices unparsed.
+    assert_eq!(skipped(&d, "3-D POLYLINE"), 1);
+
+    // With every layer read, the first bad number stops the file.
+    let err = read_str(&text).expect_err("the numbers are read and one is broken");
+    assert!(
+        matches!(err.kind, ImportErrorKind::Malformed(ref m) if m.contains("1,5")),
+        "{err}"
+    );
+}
+
 #[test]
 fn paper_space_blocks_and_other_entities() {
     let text = format!(

@@ -40,7 +40,8 @@ pub(crate) struct Vertex {
 
 /// Groups shared by all entities.
 struct Common<'a> {
-    layer: &'a [u8],
+    /// The layer name (group 8), when the entity has one; the first one counts.
+    layer: Option<&'a [u8]>,
     handle: Option<&'a [u8]>,
     paper: bool,
     /// Extrusion direction N (groups 210/220/230).
@@ -52,7 +53,7 @@ impl<'a> Common<'a> {
     /// The groups of the entity whose `0/TYPE` pair is at `at`.
     fn new(at: Location) -> Self {
         Common {
-            layer: b"0",
+            layer: None,
             handle: None,
             paper: false,
             normal: [0.0, 0.0, 1.0],
@@ -60,12 +61,23 @@ impl<'a> Common<'a> {
         }
     }
 
+    /// The entity's layer: an entity without group 8 is on layer 0 (DXF reference, common
+    /// group codes).
+    fn layer(&self) -> &'a [u8] {
+        self.layer.unwrap_or(b"0")
+    }
+
     /// Take a pair if it is one of the shared groups. `ocs` entities also read their
-    /// extrusion direction; LINE ignores its own.
+    /// extrusion direction; LINE ignores its own. Returns whether the pair was the entity's
+    /// layer name, which the readers then ask [`Reader::left_out_by_layer`] about. Of two
+    /// layer names (not seen in real files) the first counts, as in the census.
     #[inline(always)]
-    fn take(&mut self, p: &Pair<'a>, ocs: bool) -> Result<(), ImportError> {
+    fn take(&mut self, p: &Pair<'a>, ocs: bool) -> Result<bool, ImportError> {
         match p.code {
-            8 => self.layer = p.text(),
+            8 if self.layer.is_none() => {
+                self.layer = Some(p.text());
+                return Ok(true);
+            }
             5 => self.handle = Some(p.text()),
             67 => self.paper = p.int()? == 1,
             210 if ocs => self.normal[0] = p.real()?,
@@ -73,7 +85,7 @@ impl<'a> Common<'a> {
             230 if ocs => self.normal[2] = p.real()?,
             _ => {}
         }
-        Ok(())
+        Ok(false)
     }
 }
 
@@ -358,7 +370,7 @@ impl<'a> Reader<'a, '_> {
             self.skip(reason::PAPER_SPACE);
             return None;
         }
-        let i = self.layers.verdict(c.layer, self.opts);
+        let i = self.layers.verdict(c.layer(), self.opts);
         let entry = &mut self.layers.entries[i]; // `verdict` returns an index into `entries`
         match &entry.verdict {
             Verdict::Keep(name) => Some(name.clone()),
@@ -367,6 +379,42 @@ impl<'a> Reader<'a, '_> {
                 None
             }
         }
+    }
+
+    /// Whether [`admit`](Self::admit) will leave the entity out for its layer or for paper
+    /// space, as far as its groups read so far tell; counts nothing. Inside a block both
+    /// wait for the INSERT, so nothing is left out there.
+    fn left_out(&mut self, c: &Common<'a>) -> bool {
+        if self.block.is_some() {
+            return false;
+        }
+        if c.paper {
+            return true;
+        }
+        let i = self.layers.verdict(c.layer(), self.opts);
+        matches!(self.layers.entries[i].verdict, Verdict::Skip(_))
+    }
+
+    /// Called by the entity readers right after the layer name (group 8): when the entity is
+    /// left out ([`left_out`](Self::left_out)), passes over the rest of it without parsing
+    /// its numbers, counts it as `admit` does, and returns `true` for the reader to return.
+    /// Group 67 is still read, so that an entity in paper space is counted as such whichever
+    /// group comes first. Layer names precede the coordinates in every entity (the common
+    /// groups come first, DXF reference), so a left-out layer costs the reader no numbers.
+    #[inline(never)]
+    fn left_out_by_layer(&mut self, c: &mut Common<'a>) -> Result<bool, ImportError> {
+        if !self.left_out(c) {
+            return Ok(false);
+        }
+        while self.field()? {
+            let p = &self.pairs.cur;
+            if p.code == 67 {
+                c.paper = p.int()? == 1;
+            }
+        }
+        let kept = self.admit(c);
+        debug_assert!(kept.is_none(), "left_out and admit disagree");
+        Ok(true)
     }
 
     /// Count an entity left out for a non-finite number, with one note for the file.
@@ -423,7 +471,7 @@ impl<'a> Reader<'a, '_> {
             Some(block) => block.items.push(Item::Piece {
                 segments,
                 closed,
-                layer: c.layer.to_vec(),
+                layer: c.layer().to_vec(),
                 origin,
             }),
             None => self.push_piece(Piece {
@@ -447,7 +495,7 @@ impl<'a> Reader<'a, '_> {
         if let Some(block) = &mut self.block {
             block.items.push(Item::Curve {
                 curve,
-                layer: c.layer.to_vec(),
+                layer: c.layer().to_vec(),
                 origin,
             });
             return;
@@ -477,7 +525,11 @@ impl<'a> Reader<'a, '_> {
                 20 => y1 = p.real()?,
                 11 => x2 = p.real()?,
                 21 => y2 = p.real()?,
-                _ => c.take(p, false)?,
+                _ => {
+                    if c.take(p, false)? && self.left_out_by_layer(&mut c)? {
+                        return Ok(());
+                    }
+                }
             }
         }
         let Some(layer) = self.admit(&c) else {
@@ -510,7 +562,11 @@ impl<'a> Reader<'a, '_> {
                 40 => r = p.real()?,
                 50 if !circle => a0 = p.real()?,
                 51 if !circle => a1 = p.real()?,
-                _ => c.take(p, true)?,
+                _ => {
+                    if c.take(p, true)? && self.left_out_by_layer(&mut c)? {
+                        return Ok(());
+                    }
+                }
             }
         }
         let Some(layer) = self.admit(&c) else {
@@ -566,7 +622,11 @@ impl<'a> Reader<'a, '_> {
                 40 => ratio = p.real()?,
                 41 => t0 = p.real()?,
                 42 => t1 = p.real()?,
-                _ => c.take(p, true)?,
+                _ => {
+                    if c.take(p, true)? && self.left_out_by_layer(&mut c)? {
+                        return Ok(());
+                    }
+                }
             }
         }
         let Some(layer) = self.admit(&c) else {
@@ -644,7 +704,11 @@ impl<'a> Reader<'a, '_> {
                 13 => t_end = Some([p.real()?, 0.0, 0.0]),
                 23 => t_end.get_or_insert([0.0; 3])[1] = p.real()?,
                 33 => t_end.get_or_insert([0.0; 3])[2] = p.real()?,
-                _ => c.take(p, true)?,
+                _ => {
+                    if c.take(p, true)? && self.left_out_by_layer(&mut c)? {
+                        return Ok(());
+                    }
+                }
             }
         }
         let Some(layer) = self.admit(&c) else {
@@ -818,7 +882,12 @@ impl<'a> Reader<'a, '_> {
                     let room = self.pairs.bytes_left() / 8;
                     vertices.reserve(usize::try_from(n).unwrap_or(0).min(room));
                 }
-                _ => c.take(p, true)?,
+                _ => {
+                    if c.take(p, true)? && self.left_out_by_layer(&mut c)? {
+                        self.vertices = vertices;
+                        return Ok(());
+                    }
+                }
             }
         }
         let result = self.finish_polyline(
@@ -851,12 +920,17 @@ impl<'a> Reader<'a, '_> {
             match p.code {
                 30 => elevation = p.real()?,
                 70 => flags = p.int()?,
-                _ => c.take(p, true)?,
+                _ => {
+                    c.take(p, true)?;
+                }
             }
         }
         let mut vertices = std::mem::take(&mut self.vertices);
         vertices.clear();
-        let result = self.read_vertices(&c, &mut vertices);
+        // The vertices' numbers are parsed only when the polyline can be kept: a 3-D
+        // polyline or a left-out layer is counted as skipped below without them.
+        let numbers = flags & (8 | 16 | 64) == 0 && !self.left_out(&c);
+        let result = self.read_vertices(&c, &mut vertices, numbers);
         let result = result.and_then(|()| {
             if flags & (8 | 16 | 64) != 0 {
                 self.skip(reason::POLYLINE_3D);
@@ -874,16 +948,20 @@ impl<'a> Reader<'a, '_> {
         result
     }
 
-    /// The VERTEX entities after a POLYLINE, and its SEQEND.
+    /// The VERTEX entities after a POLYLINE, and its SEQEND; with `numbers` false they are
+    /// passed over without parsing anything.
     fn read_vertices(
         &mut self,
         c: &Common<'a>,
         vertices: &mut Vec<Vertex>,
+        numbers: bool,
     ) -> Result<(), ImportError> {
         loop {
             self.advance_in("ENTITIES")?;
             let p = &self.pairs.cur;
-            if p.is(0, b"VERTEX") {
+            if p.is(0, b"VERTEX") && !numbers {
+                self.skip_fields()?;
+            } else if p.is(0, b"VERTEX") {
                 let mut v = Vertex {
                     x: 0.0,
                     y: 0.0,
