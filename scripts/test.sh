@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # The README's test command: install Chromium when it is missing (the HTML report's browser
 # tests load the page in it; Debian's `chromium` package), then run every test.
-# Extra arguments go to `cargo test` (e.g. `bash scripts/test.sh --test report`).
+# Extra arguments go to `cargo test` (e.g. `bash scripts/test.sh --test report`); without
+# them the benchmark target (benches/stages.rs) is also run once, untimed, as a check.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -20,3 +21,8 @@ if [ -z "${SECTIO_CHROMIUM:-}" ] && ! command -v chromium >/dev/null; then
 fi
 
 cargo test --locked "$@"
+
+# The `cargo bench` target, once per drawing without timing: its generator and checks.
+if [ "$#" -eq 0 ]; then
+  cargo test --locked --bench stages
+fi
