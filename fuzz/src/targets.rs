@@ -25,9 +25,15 @@ use sectio::report::csv_out::{csv_records, CsvFormat};
 use sectio::report::drawing::{sheet_svg, DrawStyle, SheetItem};
 use sectio::report::{Row, Tiers};
 
-/// A DXF file (or anything else): the reader alone, the analysis, and `explain`.
+/// A DXF file (or anything else): the reader alone (reading everything, and with a layer
+/// selection, whose left-out entities are passed over unparsed), the analysis, and `explain`.
 pub fn dxf_reader(data: &[u8]) {
     let _ = import::dxf::read(data, &read_more());
+    let selected = ReadOptions {
+        layers: vec!["P*".into()],
+        ..ReadOptions::default()
+    };
+    let _ = import::dxf::read(data, &selected);
     file_paths(data);
 }
 
