@@ -42,6 +42,9 @@ pub(crate) struct Vertex {
 struct Common<'a> {
     /// The layer name (group 8), when the entity has one; the first one counts.
     layer: Option<&'a [u8]>,
+    /// The layer's entry among the reader's verdicts, once looked up (by
+    /// [`Reader::left_out`], so that [`Reader::admit`] need not look again).
+    layer_entry: Option<usize>,
     handle: Option<&'a [u8]>,
     paper: bool,
     /// Extrusion direction N (groups 210/220/230).
@@ -54,6 +57,7 @@ impl<'a> Common<'a> {
     fn new(at: Location) -> Self {
         Common {
             layer: None,
+            layer_entry: None,
             handle: None,
             paper: false,
             normal: [0.0, 0.0, 1.0],
@@ -370,7 +374,10 @@ impl<'a> Reader<'a, '_> {
             self.skip(reason::PAPER_SPACE);
             return None;
         }
-        let i = self.layers.verdict(c.layer(), self.opts);
+        let i = match c.layer_entry {
+            Some(i) => i,
+            None => self.layers.verdict(c.layer(), self.opts),
+        };
         let entry = &mut self.layers.entries[i]; // `verdict` returns an index into `entries`
         match &entry.verdict {
             Verdict::Keep(name) => Some(name.clone()),
@@ -382,9 +389,10 @@ impl<'a> Reader<'a, '_> {
     }
 
     /// Whether [`admit`](Self::admit) will leave the entity out for its layer or for paper
-    /// space, as far as its groups read so far tell; counts nothing. Inside a block both
+    /// space, as far as its groups read so far tell; counts nothing, and notes the layer's
+    /// entry in `c` for `admit`. Inside a block both
     /// wait for the INSERT, so nothing is left out there.
-    fn left_out(&mut self, c: &Common<'a>) -> bool {
+    fn left_out(&mut self, c: &mut Common<'a>) -> bool {
         if self.block.is_some() {
             return false;
         }
@@ -392,6 +400,7 @@ impl<'a> Reader<'a, '_> {
             return true;
         }
         let i = self.layers.verdict(c.layer(), self.opts);
+        c.layer_entry = Some(i);
         matches!(self.layers.entries[i].verdict, Verdict::Skip(_))
     }
 
@@ -929,7 +938,7 @@ impl<'a> Reader<'a, '_> {
         vertices.clear();
         // The vertices' numbers are parsed only when the polyline can be kept: a 3-D
         // polyline or a left-out layer is counted as skipped below without them.
-        let numbers = flags & (8 | 16 | 64) == 0 && !self.left_out(&c);
+        let numbers = flags & (8 | 16 | 64) == 0 && !self.left_out(&mut c);
         let result = self.read_vertices(&c, &mut vertices, numbers);
         let result = result.and_then(|()| {
             if flags & (8 | 16 | 64) != 0 {
