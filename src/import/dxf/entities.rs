@@ -390,8 +390,8 @@ impl<'a> Reader<'a, '_> {
 
     /// Whether [`admit`](Self::admit) will leave the entity out for its layer or for paper
     /// space, as far as its groups read so far tell; counts nothing, and notes the layer's
-    /// entry in `c` for `admit`. Inside a block both
-    /// wait for the INSERT, so nothing is left out there.
+    /// entry in `c` for `admit`. Inside a block both wait for the INSERT, so nothing is left
+    /// out there.
     fn left_out(&mut self, c: &mut Common<'a>) -> bool {
         if self.block.is_some() {
             return false;
