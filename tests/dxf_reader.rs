@@ -129,13 +129,18 @@ fn degenerate_radii_and_non_finite_values() {
          0\nARC\n10\n0\n20\n0\n40\n0\n50\n0\n51\n90\n\
          0\nARC\n10\nNaN\n20\n0\n40\n1\n50\n0\n51\n90\n\
          0\nLINE\n10\n1e400\n20\n0\n11\n1\n21\n1\n\
-         0\nCIRCLE\n10\n1e300\n20\n0\n40\n1\n",
+         0\nCIRCLE\n10\n1e300\n20\n0\n40\n1\n\
+         0\nLWPOLYLINE\n90\n2\n70\n0\n10\n-1e308\n20\n0\n10\n1e308\n20\n0\n\
+         0\nLWPOLYLINE\n90\n3\n70\n0\n10\n0\n20\n0\n10\n-1e308\n20\n0\n42\n1\n10\n1e308\n20\n0\n",
     );
-    assert_eq!(d.pieces.len(), 1, "1e300 is a finite coordinate");
+    // The straight polyline's ends are finite; the second one's arc, whose chord is longer
+    // than the largest double, is not, and the polyline is left out whole.
+    assert_eq!(d.pieces.len(), 2, "1e300 and ±1e308 are finite coordinates");
     assert_eq!(skipped(&d, "CIRCLE with radius <= 0"), 2);
     assert_eq!(skipped(&d, "ARC with radius <= 0"), 1);
     assert_eq!(skipped(&d, "non-finite value: ARC"), 1);
     assert_eq!(skipped(&d, "non-finite value: LINE"), 1);
+    assert_eq!(skipped(&d, "non-finite value: LWPOLYLINE"), 1);
     assert_eq!(d.notes.len(), 1, "{:?}", d.notes);
 }
 

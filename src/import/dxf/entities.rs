@@ -1035,9 +1035,14 @@ impl<'a> Reader<'a, '_> {
             return Ok(());
         };
         let segments = polyline_segments(vertices, closed, &plane, elevation);
+        // The vertices are finite (checked above), and on the identity or mirror plane a
+        // line's ends are copies of them: only arcs, and all segments of a tilted plane, can
+        // have come out non-finite.
+        let copied = matches!(plane, Plane::Identity | Plane::MirrorX);
+        let finite = |s: &Segment| (copied && matches!(s, Segment::Line { .. })) || s.is_finite();
         if segments.is_empty() {
             self.skip(&format!("{entity} with fewer than 2 distinct vertices"));
-        } else if !segments.iter().all(Segment::is_finite) {
+        } else if !segments.iter().all(finite) {
             self.skip_non_finite(entity, c.at);
         } else {
             self.piece(c, entity, layer, segments, closed);
