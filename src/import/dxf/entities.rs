@@ -407,8 +407,8 @@ impl<'a> Reader<'a, '_> {
     /// Called by the entity readers right after the layer name (group 8): when the entity is
     /// left out ([`left_out`](Self::left_out)), passes over the rest of it without parsing
     /// its numbers, counts it as `admit` does, and returns `true` for the reader to return.
-    /// Group 67 is still read, so that an entity in paper space is counted as such whichever
-    /// group comes first. Layer names precede the coordinates in every entity (the common
+    /// The shared groups are still taken (`Common::take`, without the extrusion direction), so
+    /// that an entity in paper space (group 67) is counted as such whichever group comes first. Layer names precede the coordinates in every entity (the common
     /// groups come first, DXF reference), so a left-out layer costs the reader no numbers.
     #[inline(never)]
     fn left_out_by_layer(&mut self, c: &mut Common<'a>) -> Result<bool, ImportError> {
@@ -416,10 +416,8 @@ impl<'a> Reader<'a, '_> {
             return Ok(false);
         }
         while self.field()? {
-            let p = &self.pairs.cur;
-            if p.code == 67 {
-                c.paper = p.int()? == 1;
-            }
+            // The shared groups only (no extrusion direction: nothing is parsed as a number).
+            c.take(&self.pairs.cur, false)?;
         }
         let kept = self.admit(c);
         debug_assert!(kept.is_none(), "left_out and admit disagree");
