@@ -307,9 +307,9 @@ fn one_round(sheet: &Sheet, opts: &ReadOptions) -> [Duration; 5] {
     let c = chain(d.pieces, gap);
     let t2 = Instant::now();
     let mut problems = c.problems;
-    let loops = drop_crossing_loops(c.loops, gap, &mut problems);
+    let loops = drop_crossing_loops(c.loops, gap, &d.curves.spans, &mut problems);
     let t3 = Instant::now();
-    let profiles = nest(loops, gap, &d.curves.spans, &mut problems).profiles;
+    let profiles = nest(loops, gap, &mut problems).profiles;
     let t4 = Instant::now();
     let area: f64 = profiles.iter().map(|p| section_props(&[p]).area).sum();
     let t5 = Instant::now();

@@ -52,9 +52,9 @@ fn main() {
         n_segments += c.loops.iter().map(|l| l.segments.len()).sum::<usize>();
         let t3 = Instant::now();
         let mut problems = c.problems;
-        let loops = drop_crossing_loops(c.loops, gap, &mut problems);
+        let loops = drop_crossing_loops(c.loops, gap, &d.curves.spans, &mut problems);
         let t4 = Instant::now();
-        let profiles = nest(loops, gap, &d.curves.spans, &mut problems).profiles;
+        let profiles = nest(loops, gap, &mut problems).profiles;
         let t5 = Instant::now();
         for p in &profiles {
             area += section_props(&[p]).area;

@@ -64,8 +64,8 @@ fn main() {
         let gap = default_join_gap(extent, short);
         let c = chain(d.pieces, gap);
         let mut problems = c.problems;
-        let loops = drop_crossing_loops(c.loops, gap, &mut problems);
-        let profiles = nest(loops, gap, &d.curves.spans, &mut problems).profiles;
+        let loops = drop_crossing_loops(c.loops, gap, &d.curves.spans, &mut problems);
+        let profiles = nest(loops, gap, &mut problems).profiles;
         for p in &profiles {
             let props = section_props(&[p]);
             let segments =

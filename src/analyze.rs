@@ -351,8 +351,13 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         problems.extend(chained.strays.iter().map(LoopProblem::open_path));
     }
     let nested = timings::time(Step::Nest, || {
-        let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-        nest(loops, join_gap, &drawing.curves.spans, &mut problems)
+        let loops = drop_crossing_loops(
+            chained.loops,
+            join_gap,
+            &drawing.curves.spans,
+            &mut problems,
+        );
+        nest(loops, join_gap, &mut problems)
     });
     crate::time_limit::check_now("nesting loops");
     let profiles = nested.profiles;

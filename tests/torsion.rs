@@ -189,7 +189,12 @@ fn profiles_of(pieces: Vec<Piece>) -> Vec<sectio::geom::Profile> {
         })
         .collect();
     let mut problems = Vec::new();
-    sectio::geom::nest(loops, 1e-6, &[], &mut problems).profiles
+    sectio::geom::nest(
+        sectio::geom::LoopsToNest::new(loops, &[]),
+        1e-6,
+        &mut problems,
+    )
+    .profiles
 }
 
 #[test]

@@ -257,8 +257,13 @@ fn details(mut drawing: import::Drawing, settings: &Settings, options: ReadOptio
     if crate::analyze::open_paths_are_errors(&d.file) {
         problems.extend(chained.strays.iter().map(LoopProblem::open_path));
     }
-    let loops = drop_crossing_loops(chained.loops, join_gap, &mut problems);
-    let nested = nest(loops, join_gap, &drawing.curves.spans, &mut problems);
+    let loops = drop_crossing_loops(
+        chained.loops,
+        join_gap,
+        &drawing.curves.spans,
+        &mut problems,
+    );
+    let nested = nest(loops, join_gap, &mut problems);
     let profiles = nested.profiles;
     d.duplicate_loops = nested.duplicate_loops;
     d.duplicates = chained.duplicates;

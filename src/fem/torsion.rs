@@ -523,7 +523,7 @@ pub fn mesh_integrals(mesh: &Mesh) -> Option<[f64; 6]> {
 mod tests {
     use super::*;
     use crate::fem::mesh::MIN_ANGLE_DEG;
-    use crate::geom::{nest, Arc, Loop, Segment};
+    use crate::geom::{nest, Arc, Loop, LoopsToNest, Segment};
     use crate::import::{LayerName, Location, Origin};
 
     fn profile(loops: Vec<Vec<Segment>>) -> Profile {
@@ -542,7 +542,7 @@ mod tests {
             })
             .collect();
         let mut problems = Vec::new();
-        let mut ps = nest(loops, 1e-9, &[], &mut problems).profiles;
+        let mut ps = nest(LoopsToNest::new(loops, &[]), 1e-9, &mut problems).profiles;
         assert_eq!(ps.len(), 1, "{problems:?}");
         ps.pop().expect("one profile")
     }

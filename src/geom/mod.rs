@@ -21,5 +21,5 @@ pub mod symmetry;
 pub use chain::{chain, Chained, Loop, LoopProblem};
 pub use curve_pieces::CurveTable;
 pub use moments::Moments;
-pub use nest::{drop_crossing_loops, nest, Nested, Profile};
+pub use nest::{drop_crossing_loops, nest, LoopsToNest, Nested, Profile};
 pub use segment::{Arc, BBox, CurvePiece, CurveSpan, Point, Segment};

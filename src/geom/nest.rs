@@ -40,7 +40,10 @@ impl Profile {
     }
 }
 
-/// Remove loops that cross themselves or each other, reporting each as a problem.
+/// Remove loops that cross themselves or each other, reporting each as a problem; the loops
+/// kept come with what [`nest`] needs of each (see [`LoopsToNest`]), worked out in the same
+/// visit of their segments. `curves` is the drawing's curve table (exact boxes and lengths of
+/// curve pieces).
 ///
 /// Points of one loop less than four tolerances apart along the loop (a shared vertex, a tiny
 /// fillet) are not crossings; two different loops that only touch (at a segment end of
@@ -52,16 +55,21 @@ impl Profile {
 pub fn drop_crossing_loops(
     loops: Vec<Loop>,
     tol: f64,
+    curves: &[CurveSpan],
     problems: &mut Vec<LoopProblem>,
-) -> Vec<Loop> {
-    let bad = crossings(&loops, tol, PairSource::Boxes);
-    let mut kept = Vec::with_capacity(loops.len());
+) -> LoopsToNest {
+    let (bad, facts) = crossings(&loops, tol, curves, PairSource::Boxes);
+    let mut kept = LoopsToNest {
+        loops: Vec::with_capacity(loops.len()),
+        facts: Vec::with_capacity(loops.len()),
+    };
     // Reported in drawing order (`Loop::seq`), whatever order the loops are listed in.
     let mut crossing: Vec<(u32, LoopProblem)> = Vec::new();
-    for (l, b) in loops.into_iter().zip(bad) {
+    for ((l, b), f) in loops.into_iter().zip(bad).zip(facts) {
         let problem = match b {
             None => {
-                kept.push(l);
+                kept.loops.push(l);
+                kept.facts.push(f);
                 continue;
             }
             Some((at, true)) => LoopProblem::SelfIntersection {
@@ -83,6 +91,68 @@ pub fn drop_crossing_loops(
     kept
 }
 
+/// Loops that do not cross, ready for [`nest`]: each with its exact box, its area integrals
+/// about that box's centre and its exact length. [`drop_crossing_loops`] works these out
+/// while it has each loop's segments in the cache for its own pass; on a large sheet the
+/// segments are out of the cache again by the time nesting comes to them.
+#[derive(Debug, Clone, Default)]
+pub struct LoopsToNest {
+    loops: Vec<Loop>,
+    facts: Vec<LoopFacts>,
+}
+
+impl LoopsToNest {
+    /// Loops known not to cross (a mesh's boundary, a test's shapes), with their facts
+    /// worked out here; `curves` as for [`drop_crossing_loops`].
+    pub fn new(loops: Vec<Loop>, curves: &[CurveSpan]) -> LoopsToNest {
+        let facts = loops
+            .iter()
+            .map(|l| LoopFacts::new(&l.segments, l.exact_bbox(curves), curves))
+            .collect();
+        LoopsToNest { loops, facts }
+    }
+
+    /// The loops, in the order they are listed.
+    pub fn loops(&self) -> &[Loop] {
+        &self.loops
+    }
+}
+
+/// What nesting needs of one loop.
+#[derive(Debug, Clone, Copy)]
+struct LoopFacts {
+    /// The exact box ([`Loop::exact_bbox`]).
+    bbox: BBox,
+    /// Area integrals about the centre of `bbox`, signed as the loop runs (for precision far
+    /// from the origin); their area's sign gives the loop's direction.
+    moments: Moments,
+    /// The exact length.
+    length: f64,
+}
+
+impl LoopFacts {
+    /// The facts of a loop of `segments` whose exact box is `bbox`: the integrals and the
+    /// length in one pass (a large loop's segments are out of the cache again by the end
+    /// of it).
+    fn new(segments: &[Segment], bbox: BBox, curves: &[CurveSpan]) -> LoopFacts {
+        let origin = bbox.center();
+        let (moments, length) =
+            segments
+                .iter()
+                .fold((Moments::default(), 0.0), |(m, length), s| {
+                    (
+                        m + segment_moments(s, origin, curves),
+                        length + exact_length(s, curves),
+                    )
+                });
+        LoopFacts {
+            bbox,
+            moments,
+            length,
+        }
+    }
+}
+
 /// Append the problems found (each with its loop's `seq`) to `problems` in drawing order.
 fn push_in_drawing_order(problems: &mut Vec<LoopProblem>, mut found: Vec<(u32, LoopProblem)>) {
     found.sort_by_key(|(seq, _)| *seq);
@@ -100,38 +170,52 @@ enum PairSource {
 }
 
 /// For each loop, where it crosses itself or another loop (the lowest-left such point) and
-/// whether it crosses itself; `None` for a loop that crosses nothing.
-fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point, bool)>> {
+/// whether it crosses itself (`None` for a loop that crosses nothing), and its facts for
+/// nesting.
+fn crossings(
+    loops: &[Loop],
+    tol: f64,
+    curves: &[CurveSpan],
+    source: PairSource,
+) -> (Vec<Option<(Point, bool)>>, Vec<LoopFacts>) {
     // Items: every segment of every loop, numbered loop after loop; `first_item[l]` is the
     // number of loop l's first segment, and the boxes are the segments' loose boxes.
     let n_items: usize = loops.iter().map(|l| l.segments.len()).sum();
     // Items are numbered along each loop. Most overlapping pairs are a segment and the next
     // one of its loop, which usually meet only at their shared vertex: that is checked once
     // per vertex here, and such pairs are passed over below. `simple_next[i]` is the item
-    // after item i when they only share their vertex, else NONE. Boxes and vertices are
-    // done in one pass over each loop, while its segments are in the cache.
+    // after item i when they only share their vertex, else NONE. Each loop's segments are
+    // visited once for their boxes (loose, and the loop's exact box) and vertices, then once
+    // more for the loop's facts while they are still in the cache.
     const NONE: u32 = u32::MAX;
     let mut simple_next = vec![NONE; n_items];
     let mut boxes: Vec<BBox> = Vec::with_capacity(n_items);
     let mut first_item: Vec<u32> = Vec::with_capacity(loops.len() + 1);
+    let mut facts: Vec<LoopFacts> = Vec::with_capacity(loops.len());
     let mut all = BBox::EMPTY;
     for l in loops {
         let first = boxes.len();
         first_item.push(first as u32);
-        for s in &l.segments {
+        let segs = &l.segments[..];
+        let n = segs.len();
+        let mut exact = BBox::EMPTY;
+        for (k, s) in segs.iter().enumerate() {
             let bbox = s.loose_bbox();
             all = all.grow(&bbox);
             boxes.push(bbox);
-        }
-        let n = l.segments.len();
-        if n >= 3 {
-            for k in 0..n {
-                let next = if k + 1 == n { 0 } else { k + 1 };
-                if only_share_their_vertex(&l.segments[k], &l.segments[next], tol) {
-                    simple_next[first + k] = (first + next) as u32;
-                }
+            // As `Loop::exact_bbox`, segment by segment in the same order.
+            exact = match s {
+                Segment::Curve(c) => exact.grow(&curves[c.span as usize].bbox),
+                s => exact.grow(&s.bbox()),
+            };
+            if n >= 3 && k > 0 && only_share_their_vertex(&segs[k - 1], s, tol) {
+                simple_next[first + k - 1] = (first + k) as u32;
             }
         }
+        if n >= 3 && only_share_their_vertex(&segs[n - 1], &segs[0], tol) {
+            simple_next[first + n - 1] = first as u32;
+        }
+        facts.push(LoopFacts::new(segs, exact, curves));
     }
     first_item.push(boxes.len() as u32);
     // (loop, segment) of an item; only asked for the few pairs that need a full test.
@@ -197,7 +281,7 @@ fn crossings(loops: &[Loop], tol: f64, source: PairSource) -> Vec<Option<(Point,
             }
         }
     }
-    bad
+    (bad, facts)
 }
 
 /// Calls `f` for the pairs of items (segments) whose boxes overlap within `tol`, as
@@ -775,9 +859,10 @@ pub struct Nested {
     pub duplicate_loops: usize,
 }
 
-/// Orient and nest loops into profiles. Loops must not cross (see [`drop_crossing_loops`]),
-/// but may touch; `tol` is the distance within which a point counts as on a loop.
-/// Loops with no area become problems.
+/// Orient and nest loops into profiles. The loops must not cross (they come from
+/// [`drop_crossing_loops`], or [`LoopsToNest::new`] for loops known not to), but may touch;
+/// `tol` is the distance within which a point counts as on a loop. Loops with no area become
+/// problems.
 ///
 /// A loop whose container encloses the same region (boxes within `tol` on every side,
 /// centroids within `tol`, areas within `tol` times twice the box's half-perimeter or 1e-9 of
@@ -789,16 +874,12 @@ pub struct Nested {
 /// other (loops that touch along an edge share points, where inside and outside is a matter
 /// of rounding): the midpoints of up to eight of its segments, spread along it, are tried in
 /// turn.
-pub fn nest(
-    mut loops: Vec<Loop>,
-    tol: f64,
-    curves: &[CurveSpan],
-    problems: &mut Vec<LoopProblem>,
-) -> Nested {
+pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Nested {
     /// Points of a loop tried, at most, to find one clear of a candidate container.
     const PROBES: usize = 8;
-    // Area integrals about each loop's own box centre, for precision far from the origin;
-    // their signed area gives the direction, and the profiles reuse them.
+    let LoopsToNest { mut loops, facts } = loops;
+    // Area integrals about each loop's own box centre; their signed area gives the
+    // direction, and the profiles reuse them.
     let mut info: Vec<(f64, BBox)> = Vec::with_capacity(loops.len());
     let mut moments: Vec<Moments> = Vec::with_capacity(loops.len());
     let mut lengths: Vec<f64> = Vec::with_capacity(loops.len());
@@ -807,20 +888,12 @@ pub fn nest(
     let mut zero_area = vec![false; loops.len()];
     // Loops with no area, reported in drawing order (`Loop::seq`).
     let mut flat: Vec<(u32, LoopProblem)> = Vec::new();
-    for (k, l) in loops.iter().enumerate() {
-        let bb = l.exact_bbox(curves);
-        // The integrals and the length in one pass: a large loop's segments are out of the
-        // cache again by the end of it.
-        let origin = bb.center();
-        let (m, length) = l
-            .segments
-            .iter()
-            .fold((Moments::default(), 0.0), |(m, length), s| {
-                (
-                    m + segment_moments(s, origin, curves),
-                    length + exact_length(s, curves),
-                )
-            });
+    for (k, (l, f)) in loops.iter().zip(facts).enumerate() {
+        let LoopFacts {
+            bbox: bb,
+            moments: m,
+            length,
+        } = f;
         let area = m.a;
         // A loop with no area: below rounding noise for its size (common practice).
         if area.is_nan() || area.abs() <= 1e-12 * bb.width() * bb.height() {
@@ -837,8 +910,7 @@ pub fn nest(
         seqs.push(l.seq);
         moments.push(m);
         lengths.push(length);
-        // The first point tried for containment (see `probe` below), found here while the
-        // loop's segments are in the cache.
+        // The first point tried for containment (see `probe` below).
         first_probes.push(probe_point(&l.segments, area > 0.0, 0, PROBES));
     }
     push_in_drawing_order(problems, flat);
@@ -1329,6 +1401,41 @@ mod tests {
         }
     }
 
+    /// The facts the crossing pass works out for nesting, along with its boxes, are those of
+    /// the loop worked out on their own: its exact box, and its integrals and length about
+    /// that box's centre, bit for bit (the pass visits the segments in the same order).
+    #[test]
+    fn facts_from_the_crossing_pass_are_the_loops_own() {
+        let mut r = uniform(5);
+        let mut loops = Vec::new();
+        for _ in 0..200 {
+            let (cx, cy) = (1e4 * r(), -1e4 * r());
+            let n = 1 + (r() * 30.0) as usize;
+            let pts: Vec<Point> = (0..n)
+                .map(|k| {
+                    let a = TAU * (k as f64 + 0.8 * r()) / n as f64;
+                    Point::new(cx, cy) + Point::polar(a) * (1.0 + 9.0 * r())
+                })
+                .collect();
+            let bulges: Vec<f64> = (0..n).map(|_| 2.0 * r() - 1.0).collect();
+            loops.push(test_loop(&pts, &bulges));
+        }
+        let (_, facts) = crossings(&loops, 1e-6, &[], PairSource::Boxes);
+        assert_eq!(facts.len(), loops.len());
+        for (l, f) in loops.iter().zip(&facts) {
+            let bbox = l.exact_bbox(&[]);
+            assert_eq!(f.bbox, bbox);
+            let c = bbox.center();
+            let m = l
+                .segments
+                .iter()
+                .fold(Moments::default(), |m, s| m + segment_moments(s, c, &[]));
+            assert_eq!(f.moments, m);
+            let length: f64 = l.segments.iter().map(Segment::length).sum();
+            assert_eq!(f.length.to_bits(), length.to_bits());
+        }
+    }
+
     /// Where order decides, loops count in drawing order (`Loop::seq`), not in the order
     /// they are listed in (a large drawing lists them in memory order): of two equal
     /// outlines the one drawn first is kept, equal holes and the problems of several loops
@@ -1386,8 +1493,8 @@ mod tests {
                 loops.reverse();
             }
             let mut problems = Vec::new();
-            let loops = drop_crossing_loops(loops, 1e-6, &mut problems);
-            let nested = nest(loops, 1e-6, &[], &mut problems);
+            let loops = drop_crossing_loops(loops, 1e-6, &[], &mut problems);
+            let nested = nest(loops, 1e-6, &mut problems);
             assert_eq!(nested.duplicate_loops, 1);
             assert_eq!(nested.profiles.len(), 1);
             let profile = &nested.profiles[0];
@@ -1449,8 +1556,8 @@ mod tests {
                 loops.push(test_loop(&pts, &bulges));
             }
             let tol = 1e-6 * 30.0;
-            let boxes = crossings(&loops, tol, PairSource::Boxes);
-            let all = crossings(&loops, tol, PairSource::All);
+            let boxes = crossings(&loops, tol, &[], PairSource::Boxes).0;
+            let all = crossings(&loops, tol, &[], PairSource::All).0;
             assert_eq!(boxes, all, "case {case}");
             found[usize::from(all.iter().all(Option::is_none))] += 1;
         }
@@ -1498,8 +1605,8 @@ mod tests {
                 "case {case}: the group search is not used"
             );
             let tol = 1e-6 * 300.0;
-            let boxes = crossings(&loops, tol, PairSource::Boxes);
-            let all = crossings(&loops, tol, PairSource::All);
+            let boxes = crossings(&loops, tol, &[], PairSource::Boxes).0;
+            let all = crossings(&loops, tol, &[], PairSource::All).0;
             assert_eq!(boxes, all, "case {case}");
             for b in &all {
                 found[usize::from(b.is_none())] += 1;
