@@ -289,7 +289,8 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
     // (Grown as needed: single loose segments, most pieces of a sheet, never enter it.)
     let mut seen: FastMap<(usize, u64, bool), u32> = FastMap::default();
     let mut next_same: Vec<u32> = Vec::with_capacity(pieces.len());
-    let mut store: Vec<(Vec<Segment>, bool, usize)> = Vec::with_capacity(pieces.len());
+    // (segments, closed, connected as `drop_tiny` says, piece)
+    let mut store: Vec<(Vec<Segment>, bool, bool, usize)> = Vec::with_capacity(pieces.len());
     let sorted_keys = |segs: &[Segment]| {
         let mut k: Vec<SegKey> = segs.iter().map(|s| seg_key(s, q)).collect();
         k.sort_unstable();
@@ -300,7 +301,7 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
     // store-to-load forward for every piece: 30 % of this function's own time on the heavy
     // set (`perf annotate`).
     for (pi, piece) in pieces.iter_mut().enumerate() {
-        let kept = drop_tiny(
+        let (kept, connected) = drop_tiny(
             std::mem::take(&mut piece.segments),
             join_gap,
             &mut out.degenerate,
@@ -312,7 +313,7 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
         // its twins are found in `link`, where they join the same two nodes.
         if !piece.closed && kept.len() == 1 {
             next_same.push(NONE);
-            store.push((kept, false, pi));
+            store.push((kept, false, connected, pi));
             continue;
         }
         // Fingerprint: the run's box, quantised like the keys; cheap, and equal for twins.
@@ -340,14 +341,15 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
         }
         next_same.push(*head);
         *head = store.len() as u32;
-        store.push((kept, piece.closed, pi));
+        store.push((kept, piece.closed, connected, pi));
     }
     let mut open: Vec<(Vec<Segment>, usize)> = Vec::new();
-    for (segs, closed, pi) in store {
+    for (segs, closed, connected, pi) in store {
         if closed {
             let Piece { layer, origin, .. } = &pieces[pi];
             let seq = out.loops.len() as u32;
-            out.loops.push(close_up(segs, layer.clone(), *origin, seq));
+            out.loops
+                .push(close_up(segs, connected, layer.clone(), *origin, seq));
         } else {
             open.push((segs, pi));
         }
@@ -361,10 +363,19 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
 /// `join_gap` of the last point kept (the end of the last kept segment, or the run's start),
 /// so a stretch of many short segments is thinned to steps of about `join_gap` instead of
 /// vanishing; the segment after a dropped one starts at that point, so the run stays
-/// connected and moves by at most `join_gap`.
-fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> Vec<Segment> {
+/// connected and moves by at most `join_gap`. Also says whether every segment kept starts
+/// where the one before it ends (so that [`close_up`] need not visit them again).
+///
+/// A segment that stays where it is is not written back: a large drawing's pieces are out
+/// of the cache, and rewriting every segment would only make them all dirty.
+fn drop_tiny(
+    mut segments: Vec<Segment>,
+    join_gap: f64,
+    dropped: &mut usize,
+) -> (Vec<Segment>, bool) {
     let mut write = 0;
     let mut relink = false;
+    let mut connected = true;
     // The run's start: the first finite segment's start.
     let mut start: Option<Point> = None;
     for read in 0..segments.len() {
@@ -397,16 +408,22 @@ fn drop_tiny(mut segments: Vec<Segment>, join_gap: f64, dropped: &mut usize) -> 
             relink = true;
             continue;
         }
-        segments[write] = if relink {
+        let kept = if relink {
             snapped(s, from(), s.end())
         } else {
             s
         };
+        if write > 0 {
+            connected &= segments[write - 1].end() == kept.start();
+        }
+        if relink || write != read {
+            segments[write] = kept;
+        }
         write += 1;
         relink = false;
     }
     segments.truncate(write);
-    segments
+    (segments, connected)
 }
 
 /// Quantised, direction-free identity of a segment, for duplicate detection.
@@ -478,9 +495,16 @@ impl std::hash::Hasher for FastHasher {
 pub(crate) type FastBuild = std::hash::BuildHasherDefault<FastHasher>;
 pub(crate) type FastMap<K, V> = HashMap<K, V, FastBuild>;
 
-/// Make a loop from segments that already form a closed run, bridging tiny gaps.
-fn close_up(segments: Vec<Segment>, layer: LayerName, origin: Origin, seq: u32) -> Loop {
-    let connected = segments.windows(2).all(|w| w[0].end() == w[1].start());
+/// Make a loop from segments that already form a closed run, bridging tiny gaps;
+/// `connected`: whether each segment is known to start where the one before it ends.
+fn close_up(
+    segments: Vec<Segment>,
+    connected: bool,
+    layer: LayerName,
+    origin: Origin,
+    seq: u32,
+) -> Loop {
+    let connected = connected || segments.windows(2).all(|w| w[0].end() == w[1].start());
     let mut out = if connected {
         segments
     } else {
@@ -1017,7 +1041,7 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
             if closed {
                 // From the first run on: forward, or the whole loop the other way round.
                 let run = segments_of(&steps, e, !steps[e].forward);
-                found.push((perm[first], close_up(run, layer.clone(), *origin, 0)));
+                found.push((perm[first], close_up(run, false, layer.clone(), *origin, 0)));
             } else {
                 let run = segments_of(&steps, 0, false);
                 open.push((run, piece));
@@ -1282,6 +1306,45 @@ mod tests {
                 assert_eq!(nodes.of_end[i] == nodes.of_end[j], which[i] == which[j]);
             }
         }
+    }
+
+    /// `drop_tiny` says a run is connected exactly when each segment it keeps starts where
+    /// the one before ends, for runs with tiny, non-finite and unjoined segments.
+    #[test]
+    fn dropping_tiny_segments_says_whether_the_run_is_connected() {
+        let mut u = uniform(9);
+        let gap = 0.01;
+        let mut seen = [0usize; 2]; // runs not connected, connected
+        for _ in 0..3000 {
+            let n = 1 + (u() * 12.0) as usize;
+            let mut p = Point::new(u(), u());
+            let mut run = Vec::new();
+            for _ in 0..n {
+                // Long steps, tiny steps and, now and then, a jump or a non-finite end.
+                let step = if u() < 0.3 { 0.3 * gap } else { 1.0 };
+                let q = p + Point::polar(6.3 * u()) * step;
+                let start = if u() < 0.1 {
+                    p + Point::new(0.5, 0.0)
+                } else {
+                    p
+                };
+                let end = if u() < 0.03 {
+                    Point::new(f64::NAN, 0.0)
+                } else {
+                    q
+                };
+                run.push(Segment::line(start, end));
+                p = q;
+            }
+            let mut dropped = 0;
+            let (kept, connected) = drop_tiny(run.clone(), gap, &mut dropped);
+            let expected = kept.windows(2).all(|w| w[0].end() == w[1].start());
+            assert_eq!(connected, expected, "{run:?}");
+            seen[usize::from(connected)] += 1;
+            // Every segment is either kept or counted as dropped.
+            assert_eq!(kept.len() + dropped, run.len());
+        }
+        assert!(seen[0] > 300 && seen[1] > 300, "{seen:?}");
     }
 
     #[test]
