@@ -3,8 +3,9 @@
 use std::collections::BTreeMap;
 
 use crate::fem::{torsion_props, TorsionSettings};
+use crate::geom::scale::SHORT_LIMIT2_MM2;
 use crate::geom::{
-    chain, drop_crossing_loops, nest, BBox, CurvePiece, CurveTable, LoopProblem, Profile, Segment,
+    chain, drop_crossing_loops, nest, BBox, CurveTable, LoopProblem, Profile, ScaleTally,
 };
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
@@ -111,39 +112,27 @@ fn extent_gap(extent_mm: f64) -> f64 {
 /// count) when that is short enough to lower the default gap (under four times the gap by
 /// extent), infinity otherwise.
 pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
-    // One pass: the box, the number of lengths above zero, and the few lengths that could
-    // count as short whatever the extent turns out to be. The gap by extent is at most
-    // `MAX_GAP_MM`, so only lengths under four times that can lower it: their squares are
-    // kept (most drawings have none) and sorted out against the real limit below. Squared
-    // lengths keep the order, and only the chosen one needs a root.
-    const MOST_SHORT2: f64 = (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM);
-    // The box grown with plain comparisons (`BBox::grow`; it starts empty, so this is
-    // `BBox::union` of the loose boxes, NaN coordinates passed over), a line by its ends.
-    let mut bbox = BBox::EMPTY;
-    let mut n = 0usize;
-    let mut candidates: Vec<f64> = Vec::new();
+    let mut tally = ScaleTally::default();
     for p in pieces {
-        for s in &p.segments {
-            let l2 = match s {
-                // A curve's chords count too: the gap must stay well below them.
-                Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
-                    bbox = bbox.grow_point(*a).grow_point(*b);
-                    (*b - *a).dot(*b - *a)
-                }
-                Segment::Arc(arc) => {
-                    bbox = bbox.grow(&arc.loose_bbox());
-                    arc.length() * arc.length()
-                }
-            };
-            n += usize::from(l2 > 0.0);
-            if l2 > 0.0 && l2 < MOST_SHORT2 {
-                candidates.push(l2);
-            }
-        }
+        tally.add_piece(&p.segments);
     }
+    scale_of_tally(tally)
+}
+
+/// [`drawing_scale`] from a tally of the pieces' segments (see [`ScaleTally`]). The gap by
+/// extent is at most `MAX_GAP_MM`, so only lengths under four times that can lower it: the
+/// tally keeps their squares (most drawings have none), sorted out here against the real
+/// limit. Squared lengths keep the order, and only the chosen one needs a root.
+fn scale_of_tally(tally: ScaleTally) -> (f64, f64) {
+    let ScaleTally {
+        bbox,
+        lengths: n,
+        short2: mut candidates,
+        ..
+    } = tally;
     let extent = bbox.diagonal();
     let limit2 = (4.0 * extent_gap(extent)).powi(2);
-    debug_assert!(limit2 <= MOST_SHORT2);
+    debug_assert!(limit2 <= SHORT_LIMIT2_MM2);
     candidates.retain(|&l2| l2 < limit2);
     let k = n / 100;
     let short = if candidates.len() > k {
@@ -155,6 +144,21 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
         f64::INFINITY
     };
     (extent, short)
+}
+
+// The tally keeps the lengths that could lower the largest default gap.
+const _: () = assert!(SHORT_LIMIT2_MM2 == (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM));
+
+/// [`drawing_scale`] of a drawing in millimetres: from the reader's tally when the drawing
+/// was in millimetres already and its pieces are those the reader made, else from the
+/// pieces.
+fn drawing_scale_of(drawing: &mut Drawing, unit: LengthUnit) -> (f64, f64) {
+    let tally = std::mem::take(&mut drawing.scale);
+    if unit.mm == 1.0 && tally.pieces == drawing.pieces.len() {
+        scale_of_tally(tally)
+    } else {
+        drawing_scale(&drawing.pieces)
+    }
 }
 
 /// Read and measure one DXF or SVG file held in memory (told apart by content, see
@@ -339,7 +343,7 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         return MeasuredDrawing::file_row(&units_label, msg, drawing.curves);
     }
     let join_gap = settings.join_gap.unwrap_or_else(|| {
-        let (extent, short) = drawing_scale(&drawing.pieces);
+        let (extent, short) = drawing_scale_of(&mut drawing, unit);
         default_join_gap(extent, short)
     });
     crate::time_limit::check_now("reading");
@@ -630,7 +634,7 @@ fn summarize_skipped(skipped: &std::collections::BTreeMap<String, usize>) -> Str
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::geom::Point;
+    use crate::geom::{Point, Segment};
     use crate::import::{Location, Origin};
 
     #[test]

@@ -297,3 +297,55 @@ fn hatch_boundaries_measure_like_the_outlines_they_fill() {
         }
     }
 }
+
+/// The DXF reader tallies each piece's segments for the default gap as it adds the piece
+/// (`Drawing::scale`): for every corpus drawing and fixture, read with and without hatch
+/// outlines, the tally is that of the pieces the drawing ends up with, segment for segment
+/// (blocks placed by INSERT, curves, polylines and 3-D planes included).
+#[test]
+fn the_readers_scale_tally_is_that_of_the_pieces_it_made() {
+    use sectio::geom::ScaleTally;
+    use sectio::import::{dxf, ReadOptions};
+    let fixtures = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures");
+    let mut dirs = vec![
+        fixtures.join("dxf"),
+        fixtures.join("demo"),
+        fixtures.join("real"),
+    ];
+    dirs.extend(corpus());
+    let mut read = 0;
+    for dir in dirs {
+        let Ok(entries) = std::fs::read_dir(&dir) else {
+            continue;
+        };
+        for path in entries.map(|e| e.expect("entry").path()) {
+            if !path
+                .extension()
+                .is_some_and(|e| e.eq_ignore_ascii_case("dxf"))
+            {
+                continue;
+            }
+            let bytes = std::fs::read(&path).expect("readable");
+            for hatch_outlines in [false, true] {
+                let opts = ReadOptions {
+                    hatch_outlines,
+                    ..ReadOptions::default()
+                };
+                let Ok(d) = dxf::read(&bytes, &opts) else {
+                    continue;
+                };
+                let mut own = ScaleTally::default();
+                for p in &d.pieces {
+                    own.add_piece(&p.segments);
+                }
+                let name = path.display();
+                assert_eq!(d.scale.pieces, own.pieces, "{name}");
+                assert_eq!(d.scale.lengths, own.lengths, "{name}");
+                assert_eq!(d.scale.bbox, own.bbox, "{name}");
+                assert_eq!(d.scale.short2, own.short2, "{name}");
+                read += 1;
+            }
+        }
+    }
+    assert!(read >= 40, "only {read} drawings read");
+}

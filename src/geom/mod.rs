@@ -15,6 +15,7 @@ pub mod fill;
 pub mod moments;
 pub mod nest;
 pub mod predicates;
+pub mod scale;
 pub mod segment;
 pub mod symmetry;
 
@@ -22,4 +23,5 @@ pub use chain::{chain, Chained, Loop, LoopProblem};
 pub use curve_pieces::CurveTable;
 pub use moments::Moments;
 pub use nest::{drop_crossing_loops, nest, LoopsToNest, Nested, Profile};
+pub use scale::ScaleTally;
 pub use segment::{Arc, BBox, CurvePiece, CurveSpan, Point, Segment};

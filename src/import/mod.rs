@@ -11,7 +11,7 @@ pub mod units;
 use std::collections::BTreeMap;
 use std::fmt;
 
-use crate::geom::{CurveTable, Segment};
+use crate::geom::{CurveTable, ScaleTally, Segment};
 pub use units::{LengthUnit, SourceUnits};
 
 /// Where something sits in a file: a line number of an ASCII file or a byte offset of a
@@ -114,6 +114,9 @@ pub struct Drawing {
     /// What the reader learnt about the file itself (format, release, code page; with
     /// [`ReadOptions::census`] also the LAYER table and entity counts).
     pub file: FileFacts,
+    /// The DXF reader's tally of the pieces' extent and short segments, made as it added
+    /// them (empty from other readers and for drawings built by hand); see [`ScaleTally`].
+    pub scale: ScaleTally,
 }
 
 /// Facts about a drawing file beside its geometry, for `sectio explain`.

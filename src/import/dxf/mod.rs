@@ -500,8 +500,10 @@ impl<'a> Reader<'a, '_> {
         Ok(())
     }
 
-    /// Model-space pieces are pushed here.
+    /// Model-space pieces are pushed here, and added to the drawing's scale tally while
+    /// their segments are in the cache.
     fn push_piece(&mut self, piece: Piece) {
+        self.drawing.scale.add_piece(&piece.segments);
         self.drawing.pieces.push(piece);
     }
 }
