@@ -29,9 +29,9 @@ use std::f64::consts::{PI, TAU};
 use std::fmt::Write as _;
 use std::time::{Duration, Instant};
 
-use sectio::analyze::{default_join_gap, drawing_scale};
+use sectio::analyze::{default_join_gap, drawing_scale_of};
 use sectio::geom::{chain, drop_crossing_loops, nest};
-use sectio::import::{dxf, ReadOptions};
+use sectio::import::{dxf, LengthUnit, ReadOptions};
 use sectio::section::section_props;
 
 /// The same allocator as the binary, so that the times match a `measure` run.
@@ -300,9 +300,9 @@ fn splitmix(seed: u64) -> impl FnMut() -> f64 {
 /// Measure the sheet once, step by step as `sectio measure` does; checks the result.
 fn one_round(sheet: &Sheet, opts: &ReadOptions) -> [Duration; 5] {
     let t0 = Instant::now();
-    let d = dxf::read(sheet.text.as_bytes(), opts).expect("the generated drawing reads");
+    let mut d = dxf::read(sheet.text.as_bytes(), opts).expect("the generated drawing reads");
     let t1 = Instant::now();
-    let (extent, short) = drawing_scale(&d.pieces);
+    let (extent, short) = drawing_scale_of(&mut d, LengthUnit::MM);
     let gap = default_join_gap(extent, short);
     let c = chain(d.pieces, gap);
     let t2 = Instant::now();

@@ -5,9 +5,9 @@
 
 use std::time::{Duration, Instant};
 
-use sectio::analyze::{default_join_gap, drawing_scale};
+use sectio::analyze::{default_join_gap, drawing_scale_of};
 use sectio::geom::{chain, drop_crossing_loops, nest};
-use sectio::import::{dxf, ReadOptions};
+use sectio::import::{dxf, LengthUnit, ReadOptions};
 use sectio::section::section_props;
 
 /// The same allocator as the binary, so that the stage times match a `measure` run.
@@ -41,11 +41,11 @@ fn main() {
         let t0 = Instant::now();
         let bytes = std::fs::read(f).expect("read");
         let t1 = Instant::now();
-        let Ok(d) = dxf::read(&bytes, &opts) else {
+        let Ok(mut d) = dxf::read(&bytes, &opts) else {
             continue;
         };
         let t2 = Instant::now();
-        let (extent, short) = drawing_scale(&d.pieces);
+        let (extent, short) = drawing_scale_of(&mut d, LengthUnit::MM);
         let gap = default_join_gap(extent, short);
         let c = chain(d.pieces, gap);
         n_loops += c.loops.len();

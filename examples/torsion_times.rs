@@ -7,10 +7,10 @@
 
 use std::time::Instant;
 
-use sectio::analyze::{default_join_gap, drawing_scale};
+use sectio::analyze::{default_join_gap, drawing_scale_of};
 use sectio::fem::{torsion_props, TorsionSettings};
 use sectio::geom::{chain, drop_crossing_loops, nest};
-use sectio::import::{dxf, svg, ReadOptions};
+use sectio::import::{dxf, svg, LengthUnit, ReadOptions};
 use sectio::section::section_props;
 
 /// The same allocator as the binary.
@@ -57,10 +57,10 @@ fn main() {
         } else {
             dxf::read(&bytes, &opts)
         };
-        let Ok(d) = read else {
+        let Ok(mut d) = read else {
             continue;
         };
-        let (extent, short) = drawing_scale(&d.pieces);
+        let (extent, short) = drawing_scale_of(&mut d, LengthUnit::MM);
         let gap = default_join_gap(extent, short);
         let c = chain(d.pieces, gap);
         let mut problems = c.problems;

@@ -149,10 +149,10 @@ fn scale_of_tally(tally: ScaleTally) -> (f64, f64) {
 // The tally keeps the lengths that could lower the largest default gap.
 const _: () = assert!(SHORT_LIMIT2_MM2 == (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM));
 
-/// [`drawing_scale`] of a drawing in millimetres: from the reader's tally when the drawing
-/// was in millimetres already and its pieces are those the reader made, else from the
-/// pieces.
-fn drawing_scale_of(drawing: &mut Drawing, unit: LengthUnit) -> (f64, f64) {
+/// [`drawing_scale`] of a drawing in millimetres (converted to them from `unit`, if need be):
+/// from the reader's tally when the drawing was in millimetres already and its pieces are
+/// those the reader made, else from the pieces. Takes the tally out of the drawing.
+pub fn drawing_scale_of(drawing: &mut Drawing, unit: LengthUnit) -> (f64, f64) {
     let tally = std::mem::take(&mut drawing.scale);
     if unit.mm == 1.0 && tally.pieces == drawing.pieces.len() {
         scale_of_tally(tally)
