@@ -45,10 +45,9 @@ impl Loop {
     }
     /// The exact box of the loop: curve pieces count with their curve's box from `curves`.
     pub fn exact_bbox(&self, curves: &[CurveSpan]) -> BBox {
-        self.segments.iter().fold(BBox::EMPTY, |b, s| match s {
-            Segment::Curve(c) => b.grow(&curves[c.span as usize].bbox),
-            s => b.grow(&s.bbox()),
-        })
+        self.segments
+            .iter()
+            .fold(BBox::EMPTY, |b, s| b.grow(&exact_bbox(s, curves)))
     }
     /// Reverse the direction of travel.
     pub fn reverse(&mut self) {
@@ -56,6 +55,14 @@ impl Loop {
         for s in &mut self.segments {
             *s = s.reversed();
         }
+    }
+}
+
+/// The exact box of a segment; a curve piece counts with its curve's box from `curves`.
+pub(crate) fn exact_bbox(s: &Segment, curves: &[CurveSpan]) -> BBox {
+    match s {
+        Segment::Curve(c) => curves[c.span as usize].bbox,
+        s => s.bbox(),
     }
 }
 

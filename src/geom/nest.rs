@@ -10,7 +10,7 @@
 
 use std::f64::consts::PI;
 
-use super::chain::{exact_length, Loop, LoopProblem};
+use super::chain::{exact_bbox, exact_length, Loop, LoopProblem};
 use super::moments::{segment_moments, Moments};
 use super::predicates::{
     intersections, winding_number, winding_number_clear_of, Heights, SlabIndex,
@@ -204,10 +204,7 @@ fn crossings(
             all = all.grow(&bbox);
             boxes.push(bbox);
             // As `Loop::exact_bbox`, segment by segment in the same order.
-            exact = match s {
-                Segment::Curve(c) => exact.grow(&curves[c.span as usize].bbox),
-                s => exact.grow(&s.bbox()),
-            };
+            exact = exact.grow(&exact_bbox(s, curves));
             if n >= 3 && k > 0 && only_share_their_vertex(&segs[k - 1], s, tol) {
                 simple_next[first + k - 1] = (first + k) as u32;
             }
