@@ -29,8 +29,8 @@ use std::f64::consts::{PI, TAU};
 use std::fmt::Write as _;
 use std::time::{Duration, Instant};
 
-use sectio::analyze::{default_join_gap, drawing_scale_of};
-use sectio::geom::{chain, drop_crossing_loops, nest};
+use sectio::analyze::{default_join_gap, drawing_scale_of, run_facts_of};
+use sectio::geom::{chain_read, drop_crossing_loops, nest};
 use sectio::import::{dxf, LengthUnit, ReadOptions};
 use sectio::section::section_props;
 
@@ -304,7 +304,8 @@ fn one_round(sheet: &Sheet, opts: &ReadOptions) -> [Duration; 5] {
     let t1 = Instant::now();
     let (extent, short) = drawing_scale_of(&mut d, LengthUnit::MM);
     let gap = default_join_gap(extent, short);
-    let c = chain(d.pieces, gap);
+    let runs = run_facts_of(&mut d, LengthUnit::MM);
+    let c = chain_read(d.pieces, gap, &runs);
     let t2 = Instant::now();
     let mut problems = c.problems;
     let loops = drop_crossing_loops(c.loops, gap, &d.curves.spans, &mut problems);

@@ -5,8 +5,8 @@
 
 use std::time::{Duration, Instant};
 
-use sectio::analyze::{default_join_gap, drawing_scale_of};
-use sectio::geom::{chain, drop_crossing_loops, nest};
+use sectio::analyze::{default_join_gap, drawing_scale_of, run_facts_of};
+use sectio::geom::{chain_read, drop_crossing_loops, nest};
 use sectio::import::{dxf, LengthUnit, ReadOptions};
 use sectio::section::section_props;
 
@@ -47,7 +47,8 @@ fn main() {
         let t2 = Instant::now();
         let (extent, short) = drawing_scale_of(&mut d, LengthUnit::MM);
         let gap = default_join_gap(extent, short);
-        let c = chain(d.pieces, gap);
+        let runs = run_facts_of(&mut d, LengthUnit::MM);
+        let c = chain_read(d.pieces, gap, &runs);
         n_loops += c.loops.len();
         n_segments += c.loops.iter().map(|l| l.segments.len()).sum::<usize>();
         let t3 = Instant::now();

@@ -7,9 +7,9 @@
 
 use std::time::Instant;
 
-use sectio::analyze::{default_join_gap, drawing_scale_of};
+use sectio::analyze::{default_join_gap, drawing_scale_of, run_facts_of};
 use sectio::fem::{torsion_props, TorsionSettings};
-use sectio::geom::{chain, drop_crossing_loops, nest};
+use sectio::geom::{chain_read, drop_crossing_loops, nest};
 use sectio::import::{dxf, svg, LengthUnit, ReadOptions};
 use sectio::section::section_props;
 
@@ -62,7 +62,8 @@ fn main() {
         };
         let (extent, short) = drawing_scale_of(&mut d, LengthUnit::MM);
         let gap = default_join_gap(extent, short);
-        let c = chain(d.pieces, gap);
+        let run_facts = run_facts_of(&mut d, LengthUnit::MM);
+        let c = chain_read(d.pieces, gap, &run_facts);
         let mut problems = c.problems;
         let loops = drop_crossing_loops(c.loops, gap, &d.curves.spans, &mut problems);
         let profiles = nest(loops, gap, &mut problems).profiles;

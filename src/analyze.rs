@@ -5,7 +5,8 @@ use std::collections::BTreeMap;
 use crate::fem::{torsion_props, TorsionSettings};
 use crate::geom::scale::SHORT_LIMIT2_MM2;
 use crate::geom::{
-    chain, drop_crossing_loops, nest, BBox, CurveTable, LoopProblem, Profile, ScaleTally,
+    chain_read, drop_crossing_loops, nest, BBox, CurveTable, LoopProblem, Profile, RunFacts,
+    ScaleTally,
 };
 use crate::import::{self, Drawing, LengthUnit, Piece, ReadOptions};
 use crate::section::{extrusion_props, plastic_props, section_props, SectionProps};
@@ -116,21 +117,18 @@ pub fn drawing_scale(pieces: &[Piece]) -> (f64, f64) {
     for p in pieces {
         tally.add_piece(&p.segments);
     }
-    scale_of_tally(tally)
+    scale_of_tally(&mut tally)
 }
 
 /// [`drawing_scale`] from a tally of the pieces' segments (see [`ScaleTally`]). The gap by
 /// extent is at most `MAX_GAP_MM`, so only lengths under four times that can lower it: the
 /// tally keeps their squares (most drawings have none), sorted out here against the real
-/// limit. Squared lengths keep the order, and only the chosen one needs a root.
-fn scale_of_tally(tally: ScaleTally) -> (f64, f64) {
-    let ScaleTally {
-        bbox,
-        lengths: n,
-        short2: mut candidates,
-        ..
-    } = tally;
-    let extent = bbox.diagonal();
+/// limit. Squared lengths keep the order, and only the chosen one needs a root. Takes the
+/// squared lengths out of the tally.
+fn scale_of_tally(tally: &mut ScaleTally) -> (f64, f64) {
+    let n = tally.lengths;
+    let mut candidates = std::mem::take(&mut tally.short2);
+    let extent = tally.bbox.diagonal();
     let limit2 = (4.0 * extent_gap(extent)).powi(2);
     debug_assert!(limit2 <= SHORT_LIMIT2_MM2);
     candidates.retain(|&l2| l2 < limit2);
@@ -150,15 +148,33 @@ fn scale_of_tally(tally: ScaleTally) -> (f64, f64) {
 const _: () = assert!(SHORT_LIMIT2_MM2 == (4.0 * MAX_GAP_MM) * (4.0 * MAX_GAP_MM));
 
 /// [`drawing_scale`] of a drawing in millimetres (converted to them from `unit`, if need be):
-/// from the reader's tally when the drawing was in millimetres already and its pieces are
-/// those the reader made, else from the pieces. Takes the tally out of the drawing.
+/// from the reader's tally when it [holds](tally_holds), else from the pieces. Takes the
+/// tally's short lengths out of the drawing (call it once).
 pub fn drawing_scale_of(drawing: &mut Drawing, unit: LengthUnit) -> (f64, f64) {
-    let tally = std::mem::take(&mut drawing.scale);
-    if unit.mm == 1.0 && tally.pieces == drawing.pieces.len() {
-        scale_of_tally(tally)
+    if tally_holds(drawing, unit) {
+        scale_of_tally(&mut drawing.scale)
     } else {
         drawing_scale(&drawing.pieces)
     }
+}
+
+/// The [`RunFacts`] of a drawing in millimetres (converted from `unit`, if need be), for
+/// [`chain_read`]: the reader's when its tally [holds](tally_holds), else none (chaining
+/// then reads every piece itself). Takes them out of the drawing.
+pub fn run_facts_of(drawing: &mut Drawing, unit: LengthUnit) -> Vec<RunFacts> {
+    if tally_holds(drawing, unit) {
+        std::mem::take(&mut drawing.scale.runs)
+    } else {
+        Vec::new()
+    }
+}
+
+/// Whether the reader's tally describes the drawing's pieces as they are now: the drawing
+/// was in millimetres already (converting it scaled every segment) and has as many pieces
+/// as the reader added (none were added or removed since; a drawing built by hand has an
+/// empty tally).
+fn tally_holds(drawing: &Drawing, unit: LengthUnit) -> bool {
+    unit.mm == 1.0 && drawing.scale.pieces == drawing.pieces.len()
 }
 
 /// Read and measure one DXF or SVG file held in memory (told apart by content, see
@@ -346,8 +362,9 @@ pub fn measure_drawing_with_geometry(mut drawing: Drawing, settings: &Settings) 
         let (extent, short) = drawing_scale_of(&mut drawing, unit);
         default_join_gap(extent, short)
     });
+    let runs = run_facts_of(&mut drawing, unit);
     crate::time_limit::check_now("reading");
-    let chained = timings::time(Step::Chain, || chain(drawing.pieces, join_gap));
+    let chained = timings::time(Step::Chain, || chain_read(drawing.pieces, join_gap, &runs));
     crate::time_limit::check_now("chaining loops");
     let mut problems = chained.problems;
     let strays_are_errors = open_paths_are_errors(&drawing.file);

@@ -301,10 +301,11 @@ fn hatch_boundaries_measure_like_the_outlines_they_fill() {
 /// The DXF reader tallies each piece's segments for the default gap as it adds the piece
 /// (`Drawing::scale`): for every corpus drawing and fixture, read with and without hatch
 /// outlines, the tally is that of the pieces the drawing ends up with, segment for segment
-/// (blocks placed by INSERT, curves, polylines and 3-D planes included).
+/// (blocks placed by INSERT, curves, polylines and 3-D planes included), and so are the facts
+/// it notes for chaining of each piece of several segments or a closed one.
 #[test]
 fn the_readers_scale_tally_is_that_of_the_pieces_it_made() {
-    use sectio::geom::ScaleTally;
+    use sectio::geom::{RunFacts, ScaleTally};
     use sectio::import::{dxf, ReadOptions};
     let fixtures = Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures");
     let mut dirs = vec![
@@ -313,7 +314,7 @@ fn the_readers_scale_tally_is_that_of_the_pieces_it_made() {
         fixtures.join("real"),
     ];
     dirs.extend(corpus());
-    let mut read = 0;
+    let (mut read, mut runs) = (0, 0);
     for dir in dirs {
         let Ok(entries) = std::fs::read_dir(&dir) else {
             continue;
@@ -343,9 +344,31 @@ fn the_readers_scale_tally_is_that_of_the_pieces_it_made() {
                 assert_eq!(d.scale.lengths, own.lengths, "{name}");
                 assert_eq!(d.scale.bbox, own.bbox, "{name}");
                 assert_eq!(d.scale.short2, own.short2, "{name}");
+                // The run facts: one for each piece of several segments or a closed one, in
+                // order, each as worked out from that piece alone (bit for bit: NaN too).
+                let bits = |r: &RunFacts| {
+                    let b = [r.bbox.min.x, r.bbox.min.y, r.bbox.max.x, r.bbox.max.y];
+                    (
+                        r.piece,
+                        r.shortest2.to_bits(),
+                        r.joined,
+                        b.map(f64::to_bits),
+                    )
+                };
+                let expected: Vec<_> = d
+                    .pieces
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, p)| p.closed || p.segments.len() > 1)
+                    .map(|(i, p)| bits(&RunFacts::of(i as u32, &p.segments)))
+                    .collect();
+                let got: Vec<_> = d.scale.runs.iter().map(bits).collect();
+                assert_eq!(got, expected, "{name}");
+                runs += got.len();
                 read += 1;
             }
         }
     }
     assert!(read >= 40, "only {read} drawings read");
+    assert!(runs >= 1000, "only {runs} runs noted");
 }

@@ -16,6 +16,7 @@
 use std::collections::HashMap;
 use std::hash::{Hash, Hasher};
 
+use super::scale::RunFacts;
 use super::segment::{floor_i64, BBox, CurveSpan, Point, Segment};
 use crate::import::{LayerName, Origin, Piece};
 
@@ -286,7 +287,17 @@ pub const BROKEN_GAP_RATIO: f64 = 0.1;
 type Meta = Piece;
 
 /// Build loops from pieces (coordinates in millimetres); `join_gap` as in the module doc.
-pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
+pub fn chain(pieces: Vec<Piece>, join_gap: f64) -> Chained {
+    chain_read(pieces, join_gap, &[])
+}
+
+/// [`chain`] with the [`RunFacts`] a reader noted of the pieces as it made them
+/// ([`ScaleTally::runs`](super::ScaleTally), in the pieces' order): a piece none of whose
+/// segments is short enough to drop goes on without its segments being read again here
+/// (those of a large sheet are out of the cache by now). The loops are those [`chain`] makes.
+/// The facts must be those of `pieces` as given, in millimetres and unchanged since the
+/// reader noted them; debug builds check each one used.
+pub fn chain_read(mut pieces: Vec<Piece>, join_gap: f64, runs: &[RunFacts]) -> Chained {
     let mut out = Chained::default();
     let q = join_gap.max(f64::MIN_POSITIVE);
     // Whole entities drawn twice (either way round) are dropped. A direction-free
@@ -307,12 +318,25 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
     // each out of the list, and its layer and origin into a second one, stalled on a
     // store-to-load forward for every piece: 30 % of this function's own time on the heavy
     // set (`perf annotate`).
+    let mut runs = runs.iter().peekable();
     for (pi, piece) in pieces.iter_mut().enumerate() {
-        let (kept, connected) = drop_tiny(
-            std::mem::take(&mut piece.segments),
-            join_gap,
-            &mut out.degenerate,
-        );
+        let facts = runs.next_if(|r| r.piece as usize == pi);
+        // With every segment longer than the gap (NaN, for a segment not finite, is not),
+        // `drop_tiny` would keep them all as they are.
+        let (kept, connected, known_bbox) = match facts {
+            Some(r) if r.shortest2 > join_gap * join_gap => {
+                debug_assert_eq!(*r, RunFacts::of(r.piece, &piece.segments));
+                (std::mem::take(&mut piece.segments), r.joined, Some(r.bbox))
+            }
+            _ => {
+                let (kept, connected) = drop_tiny(
+                    std::mem::take(&mut piece.segments),
+                    join_gap,
+                    &mut out.degenerate,
+                );
+                (kept, connected, None)
+            }
+        };
         if kept.is_empty() {
             continue;
         }
@@ -324,9 +348,10 @@ pub fn chain(mut pieces: Vec<Piece>, join_gap: f64) -> Chained {
             continue;
         }
         // Fingerprint: the run's box, quantised like the keys; cheap, and equal for twins.
-        let bb = kept
-            .iter()
-            .fold(BBox::EMPTY, |b, s| b.grow(&s.loose_bbox()));
+        let bb = known_bbox.unwrap_or_else(|| {
+            kept.iter()
+                .fold(BBox::EMPTY, |b, s| b.grow(&s.loose_bbox()))
+        });
         let sum = {
             let mut h = FastHasher::default();
             seg_key(&Segment::line(bb.min, bb.max), q).hash(&mut h);
@@ -1441,5 +1466,119 @@ mod tests {
                 }
             }
         }
+    }
+
+    /// Chaining with the facts a reader notes of its pieces ([`chain_read`]) gives what
+    /// chaining without them gives, whatever the pieces: closed and open runs of lines and
+    /// arcs, some with tiny segments, small breaks between segments or a non-finite end,
+    /// some drawn twice (either way round), and single loose segments; at gaps below,
+    /// between and above the runs' segment lengths. The facts must also have been used.
+    #[test]
+    fn chaining_with_the_readers_run_facts_gives_what_chaining_without_them_gives() {
+        use super::super::{Arc, ScaleTally};
+        let mut u = uniform(31);
+        let origin = |i: usize| Origin {
+            entity: "LWPOLYLINE",
+            location: Location::Line(i as u64 + 1),
+            handle: None,
+            in_block: false,
+        };
+        let mut used = [0usize; 3]; // runs passed over without `drop_tiny`, per gap
+        for _ in 0..300 {
+            let mut pieces: Vec<Piece> = Vec::new();
+            for _ in 0..1 + (u() * 8.0) as usize {
+                let centre = Point::new(10.0 * u(), 10.0 * u());
+                let m = 3 + (u() * 10.0) as usize;
+                let mut points: Vec<Point> = Vec::new();
+                for k in 0..m {
+                    let p = centre
+                        + Point::polar(std::f64::consts::TAU * k as f64 / m as f64) * (1.0 + u());
+                    points.push(p);
+                    if u() < 0.1 {
+                        // A tiny step, 0.01 long.
+                        points.push(p + Point::polar(6.3 * u()) * 0.01);
+                    }
+                }
+                let closed = u() < 0.7;
+                let n = if closed {
+                    points.len()
+                } else {
+                    points.len() - 1
+                };
+                let mut segments: Vec<Segment> = (0..n)
+                    .map(|k| {
+                        let (a, b) = (points[k], points[(k + 1) % points.len()]);
+                        match Arc::from_bulge(a, b, 0.4 * (u() - 0.5)) {
+                            Some(arc) if u() < 0.4 => Segment::Arc(arc),
+                            _ => Segment::line(a, b),
+                        }
+                    })
+                    .collect();
+                if u() < 0.1 {
+                    // A small break: one segment starts a little off its neighbour's end.
+                    let k = (u() * n as f64) as usize;
+                    segments[k] = Segment::line(
+                        segments[k].start() + Point::new(0.004, 0.0),
+                        segments[k].end(),
+                    );
+                }
+                if u() < 0.03 {
+                    let k = (u() * n as f64) as usize;
+                    segments[k] = Segment::line(segments[k].start(), Point::new(f64::NAN, 1.0));
+                }
+                let i = pieces.len();
+                let copy = u();
+                pieces.push(Piece {
+                    segments: segments.clone(),
+                    closed,
+                    layer: "0".into(),
+                    origin: origin(i),
+                });
+                if copy < 0.15 {
+                    // Drawn again, the same way or the other way round.
+                    let again = if copy < 0.07 {
+                        segments.clone()
+                    } else {
+                        segments.iter().rev().map(Segment::reversed).collect()
+                    };
+                    pieces.push(Piece {
+                        segments: again,
+                        closed,
+                        layer: "0".into(),
+                        origin: origin(i + 1),
+                    });
+                }
+                if u() < 0.3 {
+                    // A loose segment.
+                    pieces.push(Piece {
+                        segments: vec![segments[0]],
+                        closed: false,
+                        layer: "0".into(),
+                        origin: origin(pieces.len()),
+                    });
+                }
+            }
+            let mut tally = ScaleTally::default();
+            for p in &pieces {
+                tally.add_read_piece(&p.segments, p.closed);
+            }
+            for (g, gap) in [1e-3, 0.02, 5.0].into_iter().enumerate() {
+                used[g] += tally
+                    .runs
+                    .iter()
+                    .filter(|r| r.shortest2 > gap * gap)
+                    .count();
+                let plain = chain(pieces.clone(), gap);
+                let read = chain_read(pieces.clone(), gap, &tally.runs);
+                assert_eq!(format!("{read:?}"), format!("{plain:?}"), "gap {gap}");
+            }
+        }
+        // Most runs are passed over at the smallest gap, those without a tiny step at the
+        // middle one, none at the largest.
+        assert!(
+            used[0] > 1000 && used[1] > 500 && used[1] < used[0],
+            "{used:?}"
+        );
+        assert_eq!(used[2], 0);
     }
 }

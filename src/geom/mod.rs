@@ -19,9 +19,9 @@ pub mod scale;
 pub mod segment;
 pub mod symmetry;
 
-pub use chain::{chain, Chained, Loop, LoopProblem};
+pub use chain::{chain, chain_read, Chained, Loop, LoopProblem};
 pub use curve_pieces::CurveTable;
 pub use moments::Moments;
 pub use nest::{drop_crossing_loops, nest, LoopsToNest, Nested, Profile};
-pub use scale::ScaleTally;
+pub use scale::{RunFacts, ScaleTally};
 pub use segment::{Arc, BBox, CurvePiece, CurveSpan, Point, Segment};

@@ -503,7 +503,9 @@ impl<'a> Reader<'a, '_> {
     /// Model-space pieces are pushed here, and added to the drawing's scale tally while
     /// their segments are in the cache.
     fn push_piece(&mut self, piece: Piece) {
-        self.drawing.scale.add_piece(&piece.segments);
+        self.drawing
+            .scale
+            .add_read_piece(&piece.segments, piece.closed);
         self.drawing.pieces.push(piece);
     }
 }
