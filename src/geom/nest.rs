@@ -444,7 +444,7 @@ struct SweepBuffers {
     start: Vec<u32>,
     fill: Vec<u32>,
     order: Vec<u32>,
-    sorted: Vec<(BBox, u32)>,
+    sorted: Vec<([f64; 4], u32)>,
 }
 
 /// [`for_each_overlapping_pair`] with its working arrays in `buffers`.
@@ -488,16 +488,22 @@ fn for_each_overlapping_pair_in(
         fill[k] += 1;
     }
     // In sweep order: the box grown by `tol / 2` on every side (so that two grown boxes
-    // overlap exactly when the boxes are within `tol`, as `BBox::overlaps` says), and the end
-    // in `order` of the slice of its right edge: boxes from there on start to its right.
+    // overlap exactly when the boxes are within `tol`, as `BBox::overlaps` says), as
+    // (min.x, min.y, −max.x, −max.y), and the end in `order` of the slice of its right edge:
+    // boxes from there on start to its right. With the maxima negated, "o overlaps b" is
+    // o.min ≤ b.max and −o.max ≤ −b.min: four comparisons of o's numbers, in order, with
+    // four of b's, which the compiler can make one vector comparison. (Negation is exact,
+    // and a NaN fails either way.)
     let half = 0.5 * tol;
     sorted.clear();
     sorted.extend(order.iter().map(|&i| {
         let b = boxes[i as usize];
-        let grown = BBox {
-            min: Point::new(b.min.x - half, b.min.y - half),
-            max: Point::new(b.max.x + half, b.max.y + half),
-        };
+        let grown = [
+            b.min.x - half,
+            b.min.y - half,
+            -(b.max.x + half),
+            -(b.max.y + half),
+        ];
         (grown, start[slice(b.max.x + tol) + 1])
     }));
     let pairs: usize = sorted
@@ -520,14 +526,13 @@ fn for_each_overlapping_pair_in(
         let Some(later) = sorted.get(a + 1..*end as usize) else {
             continue;
         };
+        // b.max and −b.min, to compare with (o.min, −o.max).
+        let q = [-b[2], -b[3], -b[0], -b[1]];
         for (c, stretch) in later.chunks(STRETCH).enumerate() {
             let mut m = 0;
             for (k, (o, _)) in stretch.iter().enumerate() {
                 // `&` does not short-circuit: no branch on any of the four tests.
-                let hit = (o.min.x <= b.max.x)
-                    & (b.min.x <= o.max.x)
-                    & (o.min.y <= b.max.y)
-                    & (b.min.y <= o.max.y);
+                let hit = (o[0] <= q[0]) & (o[1] <= q[1]) & (o[2] <= q[2]) & (o[3] <= q[3]);
                 hits[m] = k as u32;
                 m += usize::from(hit);
             }
