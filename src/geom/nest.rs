@@ -12,9 +12,7 @@ use std::f64::consts::PI;
 
 use super::chain::{exact_bbox, exact_length, Loop, LoopProblem};
 use super::moments::{segment_moments, Moments};
-use super::predicates::{
-    intersections, winding_number, winding_number_clear_of, Heights, SlabIndex,
-};
+use super::predicates::{intersections, Heights, SlabIndex};
 use super::segment::{BBox, CurveSpan, Point, Segment};
 
 /// An outer loop (counter-clockwise) and the holes directly inside it (clockwise).
@@ -58,10 +56,11 @@ pub fn drop_crossing_loops(
     curves: &[CurveSpan],
     problems: &mut Vec<LoopProblem>,
 ) -> LoopsToNest {
-    let (bad, facts) = crossings(&loops, tol, curves, PairSource::Boxes);
+    let (bad, facts, boxes) = crossings(&loops, tol, curves, PairSource::Boxes);
     let mut kept = LoopsToNest {
         loops: Vec::with_capacity(loops.len()),
         facts: Vec::with_capacity(loops.len()),
+        boxes,
     };
     // Reported in drawing order (`Loop::seq`), whatever order the loops are listed in.
     let mut crossing: Vec<(u32, LoopProblem)> = Vec::new();
@@ -92,24 +91,37 @@ pub fn drop_crossing_loops(
 }
 
 /// Loops that do not cross, ready for [`nest`]: each with its exact box, its area integrals
-/// about that box's centre and its exact length. [`drop_crossing_loops`] works these out
+/// about that box's centre and its exact length, and the loose boxes of its segments (for
+/// the winding numbers of the containment tests). [`drop_crossing_loops`] works these out
 /// while it has each loop's segments in the cache for its own pass; on a large sheet the
 /// segments are out of the cache again by the time nesting comes to them.
 #[derive(Debug, Clone, Default)]
 pub struct LoopsToNest {
     loops: Vec<Loop>,
     facts: Vec<LoopFacts>,
+    /// The loose boxes of the loops' segments ([`Segment::loose_bbox`]), each loop's from
+    /// its `LoopFacts::first_box` on (boxes of loops dropped since may lie between).
+    boxes: Vec<BBox>,
 }
 
 impl LoopsToNest {
     /// Loops known not to cross (a mesh's boundary, a test's shapes), with their facts
     /// worked out here; `curves` as for [`drop_crossing_loops`].
     pub fn new(loops: Vec<Loop>, curves: &[CurveSpan]) -> LoopsToNest {
+        let mut boxes = Vec::new();
         let facts = loops
             .iter()
-            .map(|l| LoopFacts::new(&l.segments, l.exact_bbox(curves), curves))
+            .map(|l| {
+                let first_box = boxes.len() as u32;
+                boxes.extend(l.segments.iter().map(Segment::loose_bbox));
+                LoopFacts::new(&l.segments, l.exact_bbox(curves), curves, first_box)
+            })
             .collect();
-        LoopsToNest { loops, facts }
+        LoopsToNest {
+            loops,
+            facts,
+            boxes,
+        }
     }
 
     /// The loops, in the order they are listed.
@@ -128,13 +140,15 @@ struct LoopFacts {
     moments: Moments,
     /// The exact length.
     length: f64,
+    /// Where the loose boxes of its segments start in `LoopsToNest::boxes`.
+    first_box: u32,
 }
 
 impl LoopFacts {
     /// The facts of a loop of `segments` whose exact box is `bbox`: the integrals and the
     /// length in one pass (a large loop's segments are out of the cache again by the end
     /// of it).
-    fn new(segments: &[Segment], bbox: BBox, curves: &[CurveSpan]) -> LoopFacts {
+    fn new(segments: &[Segment], bbox: BBox, curves: &[CurveSpan], first_box: u32) -> LoopFacts {
         let origin = bbox.center();
         let (moments, length) =
             segments
@@ -149,6 +163,7 @@ impl LoopFacts {
             bbox,
             moments,
             length,
+            first_box,
         }
     }
 }
@@ -169,6 +184,10 @@ enum PairSource {
     All,
 }
 
+/// Where a loop crosses itself or another loop (the lowest-left such point) and whether it
+/// crosses itself; `None` for a loop that crosses nothing.
+type Crossing = Option<(Point, bool)>;
+
 /// For each loop, where it crosses itself or another loop (the lowest-left such point) and
 /// whether it crosses itself (`None` for a loop that crosses nothing), and its facts for
 /// nesting.
@@ -177,7 +196,7 @@ fn crossings(
     tol: f64,
     curves: &[CurveSpan],
     source: PairSource,
-) -> (Vec<Option<(Point, bool)>>, Vec<LoopFacts>) {
+) -> (Vec<Crossing>, Vec<LoopFacts>, Vec<BBox>) {
     // Items: every segment of every loop, numbered loop after loop; `first_item[l]` is the
     // number of loop l's first segment, and the boxes are the segments' loose boxes.
     let n_items: usize = loops.iter().map(|l| l.segments.len()).sum();
@@ -212,7 +231,7 @@ fn crossings(
         if n >= 3 && only_share_their_vertex(&segs[n - 1], &segs[0], tol) {
             simple_next[first + n - 1] = first as u32;
         }
-        facts.push(LoopFacts::new(segs, exact, curves));
+        facts.push(LoopFacts::new(segs, exact, curves, first as u32));
     }
     first_item.push(boxes.len() as u32);
     // (loop, segment) of an item; only asked for the few pairs that need a full test.
@@ -222,8 +241,8 @@ fn crossings(
     };
     // Per loop: where it crosses, and whether itself. Of several crossings the message names
     // the lowest-left one, so that it does not depend on the order pairs are found in.
-    let mut bad: Vec<Option<(Point, bool)>> = vec![None; loops.len()];
-    let note = |slot: &mut Option<(Point, bool)>, at: Point, itself: bool| {
+    let mut bad: Vec<Crossing> = vec![None; loops.len()];
+    let note = |slot: &mut Crossing, at: Point, itself: bool| {
         if slot.is_none_or(|(p, _)| (at.x, at.y) < (p.x, p.y)) {
             *slot = Some((at, itself));
         }
@@ -278,7 +297,7 @@ fn crossings(
             }
         }
     }
-    (bad, facts)
+    (bad, facts, boxes)
 }
 
 /// Calls `f` for the pairs of items (segments) whose boxes overlap within `tol`, as
@@ -879,7 +898,11 @@ pub struct Nested {
 pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Nested {
     /// Points of a loop tried, at most, to find one clear of a candidate container.
     const PROBES: usize = 8;
-    let LoopsToNest { mut loops, facts } = loops;
+    let LoopsToNest {
+        mut loops,
+        facts,
+        boxes,
+    } = loops;
     // Area integrals about each loop's own box centre; their signed area gives the
     // direction, and the profiles reuse them.
     let mut info: Vec<(f64, BBox)> = Vec::with_capacity(loops.len());
@@ -887,6 +910,7 @@ pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Ne
     let mut lengths: Vec<f64> = Vec::with_capacity(loops.len());
     let mut first_probes: Vec<Point> = Vec::with_capacity(loops.len());
     let mut seqs: Vec<u32> = Vec::with_capacity(loops.len());
+    let mut box_starts: Vec<usize> = Vec::with_capacity(loops.len());
     let mut zero_area = vec![false; loops.len()];
     // Loops with no area, reported in drawing order (`Loop::seq`).
     let mut flat: Vec<(u32, LoopProblem)> = Vec::new();
@@ -895,6 +919,7 @@ pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Ne
             bbox: bb,
             moments: m,
             length,
+            first_box,
         } = f;
         let area = m.a;
         // A loop with no area: below rounding noise for its size (common practice).
@@ -909,6 +934,7 @@ pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Ne
             continue;
         }
         info.push((area, bb));
+        box_starts.push(first_box as usize);
         seqs.push(l.seq);
         moments.push(m);
         lengths.push(length);
@@ -1004,19 +1030,18 @@ pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Ne
             let slab_index_due = queries[j] > 32 && container.len() >= 64;
             if slab_index_due && !matches!(indexes[j], Some(Index::Slabs(_))) {
                 indexes[j] = Some(Index::Slabs(Box::new(SlabIndex::new(container, tol))));
-            } else if queries[j] == 2 {
-                indexes[j] = Some(Index::Heights(Heights::new(container)));
             }
-            let index = indexes[j].as_ref();
+            let index: &Index = indexes[j].get_or_insert_with(|| {
+                let own_boxes = &boxes[box_starts[j]..][..container.len()];
+                Index::Heights(Heights::with_boxes(container, own_boxes))
+            });
             // The winding number around `q`: with a clearance, only if `q` is that clear of
             // the container (else `None`); without one, regardless.
             let around = |q: Point, clearance: Option<f64>| match (index, clearance) {
-                (Some(Index::Slabs(ix)), Some(c)) => ix.winding_number_clear_of(q, c),
-                (Some(Index::Slabs(ix)), None) => Some(ix.winding_number(q)),
-                (Some(Index::Heights(h)), Some(c)) => h.winding_number_clear_of(q, c),
-                (Some(Index::Heights(h)), None) => Some(h.winding_number(q)),
-                (None, Some(c)) => winding_number_clear_of(container, q, c),
-                (None, None) => Some(winding_number(container, q)),
+                (Index::Slabs(ix), Some(c)) => ix.winding_number_clear_of(q, c),
+                (Index::Slabs(ix), None) => Some(ix.winding_number(q)),
+                (Index::Heights(h), Some(c)) => h.winding_number_clear_of(q, c),
+                (Index::Heights(h), None) => Some(h.winding_number(q)),
             };
             let w = (0..PROBES.min(n))
                 .find_map(|k| around(if k == 0 { first_probe } else { probe(k) }, Some(tol)))
@@ -1101,9 +1126,10 @@ pub fn nest(loops: LoopsToNest, tol: f64, problems: &mut Vec<LoopProblem>) -> Ne
     }
 }
 
-/// What a loop asked about for containment more than once keeps to answer faster: its
-/// segments' heights (from the second question), or a slab index (a long loop, past thirty
-/// questions: building it costs about ten scans).
+/// What a loop asked about for containment keeps to answer: its segments' heights (the loose
+/// boxes the crossing check took, so that even the first question reads those instead of the
+/// segments, most of which are not at the point's height), or a slab index (a long loop, past
+/// thirty questions: building it costs about ten scans).
 enum Index<'a> {
     Heights(Heights<'a>),
     Slabs(Box<SlabIndex<'a>>),
@@ -1405,7 +1431,8 @@ mod tests {
 
     /// The facts the crossing pass works out for nesting, along with its boxes, are those of
     /// the loop worked out on their own: its exact box, and its integrals and length about
-    /// that box's centre, bit for bit (the pass visits the segments in the same order).
+    /// that box's centre, bit for bit (the pass visits the segments in the same order), and
+    /// the loose boxes of its segments.
     #[test]
     fn facts_from_the_crossing_pass_are_the_loops_own() {
         let mut r = uniform(5);
@@ -1422,9 +1449,12 @@ mod tests {
             let bulges: Vec<f64> = (0..n).map(|_| 2.0 * r() - 1.0).collect();
             loops.push(test_loop(&pts, &bulges));
         }
-        let (_, facts) = crossings(&loops, 1e-6, &[], PairSource::Boxes);
+        let (_, facts, boxes) = crossings(&loops, 1e-6, &[], PairSource::Boxes);
         assert_eq!(facts.len(), loops.len());
         for (l, f) in loops.iter().zip(&facts) {
+            // The segments' loose boxes, for the containment tests' winding numbers.
+            let own: Vec<BBox> = l.segments.iter().map(Segment::loose_bbox).collect();
+            assert_eq!(boxes[f.first_box as usize..][..own.len()], own[..]);
             let bbox = l.exact_bbox(&[]);
             assert_eq!(f.bbox, bbox);
             let c = bbox.center();

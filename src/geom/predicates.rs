@@ -1,8 +1,9 @@
 //! Intersections between segments and point-in-loop tests, on exact lines and arcs.
 
+use std::borrow::Cow;
 use std::f64::consts::{PI, TAU};
 
-use super::segment::{wrap_tau, Arc, CurvePiece, Point, Segment};
+use super::segment::{wrap_tau, Arc, BBox, CurvePiece, Point, Segment};
 
 /// A point where two segments meet, with the fraction along each (0 at start, 1 at end).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -409,15 +410,25 @@ fn height_ranges(segments: &[Segment], grow: f64) -> Vec<(f64, f64)> {
 /// winding number and the clearance found are those of the full scan.
 pub struct Heights<'a> {
     segments: &'a [Segment],
-    /// (lowest, highest) y of each segment's loose box.
-    ranges: Vec<(f64, f64)>,
+    /// Each segment's loose box ([`Segment::loose_bbox`]), of which its height range is read.
+    boxes: Cow<'a, [BBox]>,
 }
 
 impl<'a> Heights<'a> {
     pub fn new(segments: &'a [Segment]) -> Heights<'a> {
         Heights {
             segments,
-            ranges: height_ranges(segments, 0.0),
+            boxes: Cow::Owned(segments.iter().map(Segment::loose_bbox).collect()),
+        }
+    }
+
+    /// With the segments' loose boxes worked out already (by the crossing check, which
+    /// needs them too), in the segments' order.
+    pub fn with_boxes(segments: &'a [Segment], boxes: &'a [BBox]) -> Heights<'a> {
+        debug_assert_eq!(segments.len(), boxes.len());
+        Heights {
+            segments,
+            boxes: Cow::Borrowed(boxes),
         }
     }
 
@@ -436,9 +447,9 @@ impl<'a> Heights<'a> {
     fn near(&self, y: f64, reach: f64) -> impl Iterator<Item = &'a Segment> + '_ {
         self.segments
             .iter()
-            .zip(&self.ranges)
+            .zip(self.boxes.iter())
             // `|` rather than `||`: one well-predicted branch ("far") instead of two.
-            .filter(move |(_, &(lo, hi))| !((y < lo - reach) | (y > hi + reach)))
+            .filter(move |(_, b)| !((y < b.min.y - reach) | (y > b.max.y + reach)))
             .map(|(s, _)| s)
     }
 }
