@@ -23,8 +23,8 @@ pub const SHORT_LIMIT2_MM2: f64 = 0.2 * 0.2;
 /// segments of a drawing's pieces in place must not use the drawing's tally.
 #[derive(Debug, Clone)]
 pub struct ScaleTally {
-    /// The box grown with plain comparisons ([`BBox::grow`]; it starts empty, so this is
-    /// [`BBox::union`] of the loose boxes, NaN coordinates passed over), a line by its ends.
+    /// The segments' loose boxes grown with plain comparisons ([`BBox::grow`]; it starts
+    /// empty, so this is [`BBox::union`] of the loose boxes, NaN coordinates passed over).
     pub bbox: BBox,
     /// Segments with a length above zero.
     pub lengths: usize,
@@ -125,11 +125,12 @@ impl ScaleTally {
         let mut bbox = BBox::EMPTY;
         let mut last_end: Option<Point> = None;
         for s in segments {
-            shortest2 = shortest2.min(self.add(s));
+            let loose = s.loose_bbox();
+            shortest2 = shortest2.min(self.add_boxed(s, &loose));
             finite &= s.is_finite();
             joined &= last_end.is_none_or(|e| e == s.start());
             last_end = Some(s.end());
-            bbox = bbox.grow(&s.loose_bbox());
+            bbox = bbox.grow(&loose);
         }
         self.runs.push(RunFacts {
             piece,
@@ -142,13 +143,14 @@ impl ScaleTally {
     /// Add one segment; returns its squared length as the tally measures it.
     #[inline]
     pub fn add(&mut self, s: &Segment) -> f64 {
+        self.add_boxed(s, &s.loose_bbox())
+    }
+
+    /// [`ScaleTally::add`] with the segment's loose box worked out already.
+    #[inline]
+    fn add_boxed(&mut self, s: &Segment, loose: &BBox) -> f64 {
+        self.bbox = self.bbox.grow(loose);
         // A curve's chords count too: the gap must stay well below them.
-        match s {
-            Segment::Line { a, b } | Segment::Curve(CurvePiece { a, b, .. }) => {
-                self.bbox = self.bbox.grow_point(*a).grow_point(*b);
-            }
-            Segment::Arc(arc) => self.bbox = self.bbox.grow(&arc.loose_bbox()),
-        }
         let l2 = length2(s);
         self.lengths += usize::from(l2 > 0.0);
         if l2 > 0.0 && l2 < SHORT_LIMIT2_MM2 {
