@@ -702,16 +702,14 @@ fn merge_ends(points: &[Point], join_gap: f64) -> Nodes {
         cur.push((cy, first, pos.len() as u32));
     }
     // Each node moves to its first point in the order given (drawing order), so that the
-    // result does not depend on the sorting.
-    let mut placed = vec![false; pos.len()];
-    for (k, (&id, &p)) in of_end.iter().zip(points).enumerate() {
-        if let Some(&ahead) = of_end.get(k + AHEAD) {
+    // result does not depend on the sorting: every point is written to its node, last to
+    // first, so that the first one stays. (A test of whether the node was placed already
+    // went either way at random: a wrong guess for one point in four or so.)
+    for (k, (&id, &p)) in of_end.iter().zip(points).enumerate().rev() {
+        if let Some(&ahead) = k.checked_sub(AHEAD).map(|a| &of_end[a]) {
             prefetch(&pos[ahead as usize]);
-            prefetch(&placed[ahead as usize]);
         }
-        if !std::mem::replace(&mut placed[id as usize], true) {
-            pos[id as usize] = p;
-        }
+        pos[id as usize] = p;
     }
     Nodes { of_end, pos }
 }
@@ -859,13 +857,17 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     let touching = |n: u32| &adj[offset[n as usize]..offset[n as usize + 1]];
     // Each node once, in the order of its first end in the drawing.
     let by_first_end = || {
+        // Each end written at the next place, which moves on only for a node not seen
+        // before (no branch on that: it goes either way at random). One place more than
+        // nodes, for the ends after the last new one.
         let mut seen = vec![false; n_nodes];
-        let mut order = Vec::with_capacity(n_nodes);
+        let mut order = vec![0u32; n_nodes + 1];
+        let mut len = 0;
         for &n in &nodes.of_end {
-            if !std::mem::replace(&mut seen[n as usize], true) {
-                order.push(n);
-            }
+            order[len] = n;
+            len += usize::from(!std::mem::replace(&mut seen[n as usize], true));
         }
+        order.truncate(len);
         order
     };
 
@@ -878,13 +880,11 @@ fn link(runs: Vec<(Vec<Segment>, usize)>, meta: &[Meta], join_gap: f64, out: &mu
     for n in 0..n_nodes as u32 {
         let t = touching(n);
         // The node at the other end of run r.
+        // (One of the two is n, so x ^ y ^ n is the other, or n for a run from n to n;
+        // a test of which goes either way at random.)
         let other = |r: u32| {
             let (x, y) = ends[r as usize];
-            if x == n {
-                y
-            } else {
-                x
-            }
+            x ^ y ^ n
         };
         for (k, &r1) in t.iter().enumerate() {
             for &r2 in &t[k + 1..] {
