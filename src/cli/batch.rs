@@ -284,18 +284,18 @@ pub fn stream_batch<T: Send>(
 
 /// The order in which the threads of [`stream_batch`] take up `files` when all of them fit in
 /// its `window`: the outsized ones first, largest first, then the rest in the order given.
-/// A file is outsized when it is more than twice the size of the smallest (the file's size
-/// stands for its time).
+/// A file is outsized when it is more than one and a half times the size of the smallest (the
+/// file's size stands for its time).
 ///
 /// Taking the largest first (longest-processing-time-first, a common practice of scheduling)
 /// keeps a folder of a few drawings, some much larger than the rest, from ending with one
 /// thread on a large drawing while the others have nothing left. Once the outsized files
-/// are out of the way, the rest are within a factor two of each other: whichever comes last,
-/// the tail it leaves is at most two smallest files' time. Those are taken up in the order
-/// given, because results are handed on in that order: had a small file been left to the
-/// end, every result after it in the order given (a whole catalog sheet's rows, say) would
-/// wait until then, and a file output would only be written, and flushed to disk, when the
-/// run is over (see [`crate::cli::write_atomically`]).
+/// are out of the way, the rest are within a factor 1.5 of each other: whichever comes last,
+/// the tail it leaves is at most one and a half smallest files' time. Those are taken up in
+/// the order given, because results are handed on in that order: had a small file been left
+/// to the end, every result after it in the order given (a whole catalog sheet's rows, say)
+/// would wait until then, and a file output would only be written, and flushed to disk,
+/// when the run is over (see [`crate::cli::write_atomically`]).
 ///
 /// `None` (the order given) when no file is outsized, and for more files than the window:
 /// the threads then take the next file in the order given, so that files in flight stay
@@ -309,7 +309,7 @@ fn outsized_first(files: &[PathBuf], window: usize) -> Option<Vec<usize>> {
         .iter()
         .map(|f| std::fs::metadata(f).map_or(0, |m| m.len()))
         .collect();
-    let limit = 2 * sizes.iter().copied().min().unwrap_or(0);
+    let limit = sizes.iter().copied().min().unwrap_or(0).saturating_mul(3) / 2;
     let mut order: Vec<usize> = (0..files.len()).filter(|&i| sizes[i] > limit).collect();
     if order.is_empty() {
         return None;
@@ -549,8 +549,8 @@ mod tests {
                 })
                 .collect()
         };
-        // Twice the smallest is 200: the files above it first, by size (equal sizes as
-        // listed), then the rest (200 included) as listed.
+        // One and a half times the smallest is 150: the files above it first, by size (equal
+        // sizes as listed), then the rest (150 included) as listed.
         let files = write_files(&[100, 5000, 150, 300, 5000, 200, 120]);
         let started = std::sync::Mutex::new(Vec::new());
         let mut handed = Vec::new();
@@ -568,7 +568,7 @@ mod tests {
         )
         .expect("run");
         // One thread takes them up in the order it is given.
-        let order: Vec<PathBuf> = [1, 4, 3, 0, 2, 5, 6]
+        let order: Vec<PathBuf> = [1, 4, 3, 5, 0, 2, 6]
             .iter()
             .map(|&k| files[k].clone())
             .collect();
@@ -576,9 +576,9 @@ mod tests {
         assert_eq!(handed, files);
         // More files than the window: the order given.
         assert_eq!(outsized_first(&files, 6), None);
-        // Sizes within a factor two of the smallest (a catalog's sheets): the order given.
+        // Sizes within a factor 1.5 of the smallest (a catalog's sheets): the order given.
         assert_eq!(
-            outsized_first(&write_files(&[300, 340, 290, 580]), 10),
+            outsized_first(&write_files(&[300, 340, 290, 435]), 10),
             None
         );
         // An empty file makes every other file outsized.

@@ -543,9 +543,10 @@ pub fn write_atomically(
 /// returns without waiting for them), so that the `fsync` before the rename finds most of
 /// the file on disk already and waits only for its last part. `measure` writes each run of
 /// finished files' rows as it comes (see [`batch::stream_batch`]), so the disk works while
-/// the run goes on. On a catalog run's 2 MB of rows here the final `fsync` took 2.3 ms, and
-/// 0.3 ms with the writes started early. It is a hint only: the `fsync` is what makes the
-/// file durable, and a failed hint changes nothing. Elsewhere it only writes.
+/// the run goes on. On the catalog benchmark set's 2 MB of rows the final `fsync` took
+/// 2.3-2.5 ms, and 0.5-0.7 ms with the writes started early (`strace -T`). It is a hint
+/// only: the `fsync` is what makes the file durable, and a failed hint changes nothing.
+/// Elsewhere it only writes.
 pub struct EarlyWriteback<'a> {
     file: &'a mut std::fs::File,
     /// Bytes written so far.
