@@ -130,8 +130,8 @@ const HAND_ON_BATCH: usize = 16;
 /// number of files. An error from `sink` stops the run (the threads finish the file they are
 /// on) and is returned.
 ///
-/// When all the files fit in the window, the threads take up the outsized ones first (see
-/// [`outsized_first`]); they are still handed on in file order.
+/// When all the files fit in the window, the threads take them up largest first (see
+/// [`largest_first`]); they are still handed on in file order.
 ///
 /// Threads are woken only when something they wait for has happened: the calling thread
 /// when the files it waits for are all done (or a worker stopped), the workers when the
@@ -163,7 +163,7 @@ pub fn stream_batch<T: Send>(
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()))
         .min(files.len().max(1));
     let window = WINDOW_PER_THREAD * threads;
-    let claim_order = outsized_first(files, window);
+    let claim_order = largest_first(files, window);
     let bar = ProgressBar::new(files.len() as u64);
     bar.set_style(
         ProgressStyle::with_template("{bar:40} {pos}/{len} files {elapsed_precise}")
@@ -283,25 +283,13 @@ pub fn stream_batch<T: Send>(
 }
 
 /// The order in which the threads of [`stream_batch`] take up `files` when all of them fit in
-/// its `window`: the outsized ones first, largest first, then the rest in the order given.
-/// A file is outsized when it is more than one and a half times the size of the smallest (the
-/// file's size stands for its time).
-///
-/// Taking the largest first (longest-processing-time-first, a common practice of scheduling)
-/// keeps a folder of a few drawings, some much larger than the rest, from ending with one
-/// thread on a large drawing while the others have nothing left. Once the outsized files
-/// are out of the way, the rest are within a factor 1.5 of each other: whichever comes last,
-/// the tail it leaves is at most one and a half smallest files' time. Those are taken up in
-/// the order given, because results are handed on in that order: had a small file been left
-/// to the end, every result after it in the order given (a whole catalog sheet's rows, say)
-/// would wait until then, and a file output would only be written, and flushed to disk,
-/// when the run is over (see [`crate::cli::write_atomically`]).
-///
-/// `None` (the order given) when no file is outsized, and for more files than the window:
-/// the threads then take the next file in the order given, so that files in flight stay
-/// within the window, and a tail of one file is a small part of the run. Files whose size
-/// cannot be read count as empty.
-fn outsized_first(files: &[PathBuf], window: usize) -> Option<Vec<usize>> {
+/// its `window`: largest first, so that a folder of a few drawings, some much larger than the
+/// rest, does not end with one thread on a large drawing while the others have nothing left
+/// (longest-processing-time-first, a common practice of scheduling; the file's size stands
+/// for its time). `None` (the order given) for more files: the threads then take the next file
+/// in the order given, so that files in flight stay within the window, and a tail of one file
+/// is a small part of the run. Files whose size cannot be read count as empty.
+fn largest_first(files: &[PathBuf], window: usize) -> Option<Vec<usize>> {
     if files.len() < 2 || files.len() > window {
         return None;
     }
@@ -309,14 +297,9 @@ fn outsized_first(files: &[PathBuf], window: usize) -> Option<Vec<usize>> {
         .iter()
         .map(|f| std::fs::metadata(f).map_or(0, |m| m.len()))
         .collect();
-    let limit = sizes.iter().copied().min().unwrap_or(0).saturating_mul(3) / 2;
-    let mut order: Vec<usize> = (0..files.len()).filter(|&i| sizes[i] > limit).collect();
-    if order.is_empty() {
-        return None;
-    }
+    let mut order: Vec<usize> = (0..files.len()).collect();
     // Stable: files of equal size keep their order.
     order.sort_by_key(|&i| std::cmp::Reverse(sizes[i]));
-    order.extend((0..files.len()).filter(|&i| sizes[i] <= limit));
     Some(order)
 }
 
@@ -536,22 +519,18 @@ mod tests {
     }
 
     #[test]
-    fn a_few_files_are_taken_up_outsized_first_and_handed_on_in_file_order() {
+    fn a_few_files_are_taken_up_largest_first_and_handed_on_in_file_order() {
         let dir = tempfile::tempdir().unwrap();
-        let write_files = |sizes: &[usize]| -> Vec<PathBuf> {
-            sizes
-                .iter()
-                .enumerate()
-                .map(|(k, &n)| {
-                    let path = dir.path().join(format!("f{}-{k}", sizes.len()));
-                    std::fs::write(&path, vec![b'x'; n]).unwrap();
-                    path
-                })
-                .collect()
-        };
-        // One and a half times the smallest is 150: the files above it first, by size (equal
-        // sizes as listed), then the rest (150 included) as listed.
-        let files = write_files(&[100, 5000, 150, 300, 5000, 200, 120]);
+        let sizes = [10usize, 5000, 0, 300, 5000, 70];
+        let files: Vec<PathBuf> = sizes
+            .iter()
+            .enumerate()
+            .map(|(k, &n)| {
+                let path = dir.path().join(format!("f{k}"));
+                std::fs::write(&path, vec![b'x'; n]).unwrap();
+                path
+            })
+            .collect();
         let started = std::sync::Mutex::new(Vec::new());
         let mut handed = Vec::new();
         stream_batch(
@@ -567,25 +546,15 @@ mod tests {
             },
         )
         .expect("run");
-        // One thread takes them up in the order it is given.
-        let order: Vec<PathBuf> = [1, 4, 3, 5, 0, 2, 6]
+        // One thread takes them up in the order it is given: by size, equal sizes as listed.
+        let by_size: Vec<PathBuf> = [1, 4, 3, 5, 0, 2]
             .iter()
             .map(|&k| files[k].clone())
             .collect();
-        assert_eq!(started.into_inner().unwrap(), order);
+        assert_eq!(started.into_inner().unwrap(), by_size);
         assert_eq!(handed, files);
         // More files than the window: the order given.
-        assert_eq!(outsized_first(&files, 6), None);
-        // Sizes within a factor 1.5 of the smallest (a catalog's sheets): the order given.
-        assert_eq!(
-            outsized_first(&write_files(&[300, 340, 290, 435]), 10),
-            None
-        );
-        // An empty file makes every other file outsized.
-        assert_eq!(
-            outsized_first(&write_files(&[10, 0, 300, 10]), 10),
-            Some(vec![2, 0, 3, 1])
-        );
+        assert_eq!(largest_first(&files, 5), None);
     }
 
     #[test]
