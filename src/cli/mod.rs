@@ -329,7 +329,10 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
             });
             (Tally::of(&rows), lines)
         };
-        let write = |w: &mut dyn Write, tally: &mut Tally| -> std::io::Result<()> {
+        // When the workers are done: what is left of the output (the last rows, the
+        // flush, and for a file its `fsync` and rename) counts as output too.
+        let mut rows_done: Option<Instant> = None;
+        let mut write = |w: &mut dyn Write, tally: &mut Tally| -> std::io::Result<()> {
             if csv {
                 w.write_all(&csv_header(&format)?)?;
             }
@@ -341,17 +344,22 @@ fn measure(args: MeasureArgs) -> anyhow::Result<i32> {
                 written
             })
             .map_err(std::io::Error::other)?;
+            rows_done = Some(Instant::now());
             w.flush()
         };
-        match &args.output {
+        let written = match &args.output {
             Some(path) => write_atomically(path, |w| write(w, &mut tally))
-                .with_context(|| format!("cannot write {}", path.display()))?,
+                .with_context(|| format!("cannot write {}", path.display())),
             None => {
                 let stdout = std::io::stdout();
                 let mut lock = stdout.lock();
-                write(&mut lock, &mut tally).context("cannot write to standard output")?;
+                write(&mut lock, &mut tally).context("cannot write to standard output")
             }
+        };
+        if let Some(t) = rows_done {
+            timings::add(Step::Output, t.elapsed());
         }
+        written?;
         return Ok(finish_measure(&args, &tally, files.len(), started));
     }
     let batch = match &args.report {
