@@ -24,7 +24,8 @@
 #   asks 5x), against both dxf timings; with both cores at least 1.8x the single-core
 #   throughput. Beside the ratios of the best times it prints the median and range of the
 #   same ratios taken round by round (measure against the floor run just before it, the
-#   one-thread run against the both-core run just before it).
+#   one-thread run against the both-core run just before it), and the share of CPU time
+#   stolen by the hypervisor during the set's rounds (/proc/stat), a sign of a noisy host.
 # Last, unless MANY=0: peak memory of one `measure` over MANY files (default 100 000: folders
 # of symbolic links to the typical drawings), target under 300 MB.
 # Environment: SEED (default 1), HEAVY, CATALOG, MANY, RUNS; MEASURE_ARGS (default
@@ -107,6 +108,25 @@ run_once() {
 }
 
 ratio() { awk -v a="$1" -v b="$2" 'BEGIN {printf "%.2f", a / b}'; }
+# cpu_ticks: "total steal" from the first line of /proc/stat (Linux; "0 0" elsewhere): user
+# to steal (fields 2-9; guest time is already in user), and steal, the time the hypervisor
+# gave this machine's virtual CPUs to other guests.
+cpu_ticks() {
+    if [[ -r /proc/stat ]]; then
+        awk '/^cpu / {t = 0; for (i = 2; i <= 9; i++) t += $i; print t, $9; exit}' /proc/stat
+    else
+        echo "0 0"
+    fi
+}
+# steal_share "T0 S0" "T1 S1": the steal share of the CPU time between two cpu_ticks
+# readings, as a percentage ("-" without /proc/stat).
+steal_share() {
+    awk -v a="$1" -v b="$2" 'BEGIN {
+        split(a, x, " "); split(b, y, " ");
+        if (y[1] - x[1] <= 0) { print "-"; exit }
+        printf "%.1f %%", 100 * (y[2] - x[2]) / (y[1] - x[1])
+    }'
+}
 # paired A B: the median and range of the ratios of A's to B's times round by round
 # ("1.38 (1.30-1.52)"), or "-" when either step has a run missing. Two steps run next to each
 # other in a round see about the same load of the host, so their ratio varies less than the
@@ -134,6 +154,7 @@ for set in typical heavy catalog; do
     dir="$OUT/$set"
     [[ $(total "$set" files) -gt 0 ]] || continue
     echo "== $set: timing (best of $RUNS interleaved rounds, wall clock)"
+    ticks0=$(cpu_ticks)
     for _ in $(seq "$RUNS"); do
         # The floor next to `measure`, and `measure` next to its one-thread run (see `paired`).
         run_once "$set floor" target/release/examples/parse_floor "$dir"
@@ -144,6 +165,7 @@ for set in typical heavy catalog; do
         run_once "$set dxf" target/release/examples/dxf_load "$dir"
         run_once "$set dxf-1t" env RAYON_NUM_THREADS=1 target/release/examples/dxf_load "$dir"
     done
+    steal=$(steal_share "$ticks0" "$(cpu_ticks)")
     rows=$(($(wc -l <"$OUT/result.csv") - 1))
     not_ok=$(awk -F, 'NR > 1 && $3 != "ok"' "$OUT/result.csv" | wc -l)
     files=$(total "$set" files) profiles=$(total "$set" profiles) segments=$(total "$set" segments) bytes=$(total "$set" bytes)
@@ -171,7 +193,8 @@ for set in typical heavy catalog; do
         printf 'dxf-1t/measure    %6s   target >= 8     %s   (issue 2: >= 5 %s; dxf on one thread)\n' "$r2s" "$(verdict "$r2s" ">=" 8)" "$(verdict "$r2s" ">=" 5)"
         printf 'speed-up, 2 cores %6s   target >= 1.8   %s   (round by round: %s)\n' "$r3" "$(verdict "$r3" ">=" 1.8)" "$p3"
         printf 'dxf-load/floor    %6s   (for reference)\n' "$(ratio "${secs["$set dxf"]}" "${secs["$set floor"]}")"
-        summary+=("$(printf '%-8s measure/floor %s (round by round %s), dxf-load/measure %s (dxf on one thread: %s), 2-core speed-up %s (round by round %s)' "$set" "$r1" "$p1" "$r2" "$r2s" "$r3" "$p3")")
+        printf 'host: CPU steal %s of the time during these rounds (time the hypervisor gave the virtual CPUs to other guests; above a few per cent the best times are less sure)\n' "$steal"
+        summary+=("$(printf '%-8s measure/floor %s (round by round %s), dxf-load/measure %s (dxf on one thread: %s), 2-core speed-up %s (round by round %s), CPU steal %s' "$set" "$r1" "$p1" "$r2" "$r2s" "$r3" "$p3" "$steal")")
     fi
     echo
 done
