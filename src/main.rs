@@ -4,6 +4,8 @@ use clap::Parser;
 
 fn main() {
     keep_freed_memory();
+    // Before any worker thread touches memory (see the module doc of `sectio::cli::memory`).
+    sectio::cli::memory::leave_huge_pages_to_the_system();
     let cli = sectio::cli::args::Cli::parse();
     match sectio::cli::run(cli) {
         Ok(code) => std::process::exit(code),
@@ -18,7 +20,8 @@ fn main() {
 /// where it is markedly faster than the system allocator (measured with scripts/bench.sh).
 /// Version 2 (feature `v2`): version 3 spreads a run's pages over more fresh memory, and with
 /// transparent huge pages the kernel then zeroes whole 2 MiB pages for them (about a sixth
-/// of a benchmark run's time in `perf`, against a twentieth with version 2).
+/// of a benchmark run's time in `perf`, against a twentieth with version 2). Huge pages are
+/// left to the system's setting (`sectio::cli::memory`).
 #[global_allocator]
 static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
 

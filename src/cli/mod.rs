@@ -7,6 +7,7 @@ pub mod batch;
 pub mod check;
 mod draw;
 mod explain;
+pub mod memory;
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
