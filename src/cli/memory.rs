@@ -8,7 +8,7 @@
 //! drawing of each worker thread. On the project's test machine (a virtual machine whose
 //! memory the host hands back and backs again as it is freed and used), a fresh 2 MiB page took
 //! 2.3–3.8 ms per MiB to fault in when its memory had been idle for a few seconds, and a 4 KiB
-//! page 0.55–0.67 ms per MiB; after a pause of 2 s before each run (a user's run), `measure` was
+//! page 0.55–0.85 ms per MiB; after a pause of 2 s before each run (a user's run), `measure` was
 //! 24 % faster on the benchmark's catalog sheets and 31 % on its heavy drawings with 4 KiB pages
 //! (median of paired runs), and as part of the benchmark's rounds its ratio to the parse floor
 //! went from 1.87 to 1.34 (catalog) and 1.53 to 1.08 (heavy), round by round. Run back to back,
