@@ -8,12 +8,12 @@
 //! drawing of each worker thread. On the project's test machine (a virtual machine whose
 //! memory the host hands back and backs again as it is freed and used), a fresh 2 MiB page took
 //! 2.3–3.8 ms per MiB to fault in when its memory had been idle for a few seconds, and a 4 KiB
-//! page 0.55–0.85 ms per MiB; after a pause of 2 s before each run (a user's run), `measure` was
-//! 24 % faster on the benchmark's catalog sheets and 31 % on its heavy drawings with 4 KiB pages
-//! (median of paired runs), and as part of the benchmark's rounds its ratio to the parse floor
-//! went from 1.87 to 1.34 (catalog) and 1.53 to 1.08 (heavy), round by round. Run back to back,
-//! when the memory a run gets was used by the run before, huge pages were 7–11 % faster
-//! (fewer misses of the address translation cache). So sectio leaves huge pages to the
+//! page 0.55–0.85 ms per MiB. With a pause of 2 s before each run (as a user runs it),
+//! `measure` with 4 KiB pages took 0.76, 0.78 and 0.96 times as long as with huge pages on the
+//! benchmark's catalog, heavy and typical sets (median of paired runs), and in the benchmark's
+//! rounds its ratio to the parse floor went from 1.87 to 1.34 (catalog) and 1.53 to 1.08
+//! (heavy), round by round. Run back to back, when the memory a run gets was used by the run
+//! before, huge pages were up to 10 % faster (fewer misses of the address translation cache). So sectio leaves huge pages to the
 //! system's setting: it turns them off for itself unless the system gives them to every
 //! program (`always`), or `MIMALLOC_ALLOW_THP` is set in the environment (mimalloc's own
 //! switch, which then decides). Figures and commands: docs/performance-log.md.
@@ -106,7 +106,7 @@ mod tests {
         let flag = unsafe { libc::prctl(libc::PR_GET_THP_DISABLE, 0, 0, 0, 0) };
         assert_eq!(flag, 1);
         let status = std::fs::read_to_string("/proc/self/status").expect("Linux has it");
-        // "THP_enabled:\t0" since Linux 5.0; older kernels have no such line.
+        // "THP_enabled:\t0", on kernels that show the line.
         if let Some(line) = status.lines().find(|l| l.starts_with("THP_enabled:")) {
             assert_eq!(line.split_whitespace().nth(1), Some("0"), "{line}");
         }
