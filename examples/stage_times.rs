@@ -15,6 +15,8 @@ use sectio::section::section_props;
 static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn main() {
+    // Huge pages as the binary has them (see `sectio::cli::memory`).
+    sectio::cli::memory::leave_huge_pages_to_the_system();
     let mut args = std::env::args().skip(1);
     let dir = args.next().expect("usage: stage_times DIR [--layer NAME]");
     let mut opts = ReadOptions::default();

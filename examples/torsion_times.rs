@@ -18,6 +18,8 @@ use sectio::section::section_props;
 static GLOBAL: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn main() {
+    // Huge pages as the binary has them (see `sectio::cli::memory`).
+    sectio::cli::memory::leave_huge_pages_to_the_system();
     let mut opts = ReadOptions::default();
     let mut settings = TorsionSettings::default();
     let mut each = false;
