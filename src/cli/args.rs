@@ -416,7 +416,7 @@ pub struct MeasureArgs {
     #[command(flatten)]
     pub limits: LimitArgs,
 
-    /// Print where the run's time went on standard error: each step (read files, parse, chain, crossings and nesting, integrate, each tier, output) summed over the worker threads, and the slowest files.
+    /// Print where the run's time went on standard error: each step (read files, parse, chain, crossings and nesting, integrate, each tier, output with its final write and rename) summed over the threads, and the slowest files.
     #[arg(long)]
     pub timings: bool,
 
