@@ -1,22 +1,23 @@
 //! How the binary asks the operating system for memory.
 //!
 //! Transparent huge pages: the binary's allocator (mimalloc) asks Linux to back all of its
-//! memory with 2 MiB pages (`madvise(MADV_HUGEPAGE)`), also where the system gives huge
-//! pages only to programs that ask for them (`madvise` in
-//! `/sys/kernel/mm/transparent_hugepage/enabled`, the default of several distributions). A
-//! run of `sectio` is short, and most of its memory is touched for the first time by the first
-//! drawing of each worker thread. On the project's test machine (a virtual machine whose
-//! memory the host hands back and backs again as it is freed and used), a fresh 2 MiB page took
+//! memory with 2 MiB pages (`madvise(MADV_HUGEPAGE)`), also where the system gives huge pages
+//! only to programs that ask for them (`madvise` in
+//! `/sys/kernel/mm/transparent_hugepage/enabled`, the default of several distributions). A run
+//! of `sectio` is short, and most of its memory is touched for the first time by the first
+//! drawing of each worker thread. On the project's test machine (a virtual machine whose memory
+//! the host hands back and backs again as it is freed and used), a fresh 2 MiB page took
 //! 2.3–3.8 ms per MiB to fault in when its memory had been idle for a few seconds, and a 4 KiB
 //! page 0.55–0.85 ms per MiB. With a pause of 2 s before each run (as a user runs it),
 //! `measure` with 4 KiB pages took 0.76, 0.78 and 0.96 times as long as with huge pages on the
 //! benchmark's catalog, heavy and typical sets (median of paired runs), and in the benchmark's
 //! rounds its ratio to the parse floor went from 1.87 to 1.34 (catalog) and 1.53 to 1.08
 //! (heavy), round by round. Run back to back, when the memory a run gets was used by the run
-//! before, huge pages were up to 10 % faster (fewer misses of the address translation cache). So sectio leaves huge pages to the
-//! system's setting: it turns them off for itself unless the system gives them to every
-//! program (`always`), or `MIMALLOC_ALLOW_THP` is set in the environment (mimalloc's own
-//! switch, which then decides). Figures and commands: docs/performance-log.md.
+//! before, huge pages were up to 10 % faster (fewer misses of the address translation cache).
+//! So sectio leaves huge pages to the system's setting: it turns them off for itself unless the
+//! system gives them to every program (`always`), or `MIMALLOC_ALLOW_THP` is set in the
+//! environment (mimalloc's own switch, which then decides). Figures and commands:
+//! docs/performance-log.md.
 
 /// What [`leave_huge_pages_to_the_system`] did.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
