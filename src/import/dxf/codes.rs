@@ -809,12 +809,17 @@ fn short_decimal(rest: &[u8], len: usize) -> Option<f64> {
     let head = eight_digit_value(ta & ma) * 100_000_000 + eight_digit_value(tb & mb);
     let n_tail = n_digits.saturating_sub(16); // 0..=3
     let tail = eight_digit_value((tc & mc) << (8 * (8 - n_tail) as u32 % 64));
-    let mant = head * [1, 10, 100, 1000][n_tail] + tail; // < 10^19: no overflow
+    let mant = head * TAIL_SCALE[n_tail] + tail; // < 10^19: no overflow
     let pad = 16usize.saturating_sub(n_digits);
     let v = decimal_to_f64(mant, -((n_frac + pad) as i32))?;
     // The sign bit set without a branch (v >= 0; signs are as likely as not).
     Some(f64::from_bits(v.to_bits() | u64::from(neg) << 63))
 }
+
+/// What the first 16 digits are multiplied by to make room for 0 to 3 more (a `static`, read
+/// where it lies: a constant array indexed at run time was written to the stack on every
+/// call).
+static TAIL_SCALE: [u64; 4] = [1, 10, 100, 1000];
 
 /// The low k bytes of a word, k = 0..=8.
 const LOW_BYTES: [u64; 9] = {
