@@ -547,18 +547,19 @@ impl Segment {
         }
     }
     /// Whether every number in the segment is finite and an arc has a positive radius.
+    ///
+    /// Tested without a branch per number: v·0 is ±0 for a finite v and NaN for an infinite
+    /// or NaN one, so a sum of such products is zero exactly when every v is finite.
     pub fn is_finite(&self) -> bool {
+        let all_finite = |vs: &[f64]| vs.iter().fold(0.0, |sum, v| sum + v * 0.0) == 0.0;
         match self {
-            Segment::Line { a, b } => a.is_finite() && b.is_finite(),
-            Segment::Curve(c) => c.a.is_finite() && c.b.is_finite() && c.mid.is_finite(),
+            Segment::Line { a, b } => all_finite(&[a.x, a.y, b.x, b.y]),
+            Segment::Curve(c) => all_finite(&[c.a.x, c.a.y, c.b.x, c.b.y, c.mid.x, c.mid.y]),
             Segment::Arc(arc) => {
-                arc.center.is_finite()
-                    && arc.start.is_finite()
-                    && arc.end.is_finite()
-                    && arc.radius.is_finite()
-                    && arc.radius > 0.0
-                    && arc.sweep.is_finite()
-                    && arc.sweep != 0.0
+                let (c, s, e) = (arc.center, arc.start, arc.end);
+                all_finite(&[c.x, c.y, s.x, s.y, e.x, e.y, arc.radius, arc.sweep])
+                    & (arc.radius > 0.0)
+                    & (arc.sweep != 0.0)
             }
         }
     }
@@ -591,6 +592,91 @@ impl Segment {
 mod tests {
     use super::*;
     use crate::test_rng::uniform;
+
+    /// `Segment::is_finite` against the plain test, number by number, with each number of
+    /// each kind of segment in turn set to NaN, an infinity, a huge, tiny or subnormal value,
+    /// or a zero of either sign, together with its neighbour.
+    #[test]
+    fn is_finite_tests_every_number() {
+        let plain = |s: &Segment| match s {
+            Segment::Line { a, b } => [a.x, a.y, b.x, b.y].iter().all(|v| v.is_finite()),
+            Segment::Curve(c) => [c.a.x, c.a.y, c.b.x, c.b.y, c.mid.x, c.mid.y]
+                .iter()
+                .all(|v| v.is_finite()),
+            Segment::Arc(a) => {
+                [
+                    a.center.x, a.center.y, a.start.x, a.start.y, a.end.x, a.end.y,
+                ]
+                .iter()
+                .all(|v| v.is_finite())
+                    && a.radius.is_finite()
+                    && a.radius > 0.0
+                    && a.sweep.is_finite()
+                    && a.sweep != 0.0
+            }
+        };
+        let specials = [
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::MAX,
+            -f64::MAX,
+            f64::MIN_POSITIVE,
+            5e-324,
+            0.0,
+            -0.0,
+            -2.5,
+        ];
+        let p = |x: f64, y: f64| Point::new(x, y);
+        let line = |v: [f64; 8]| Segment::line(p(v[0], v[1]), p(v[2], v[3]));
+        let curve = |v: [f64; 8]| {
+            Segment::Curve(CurvePiece {
+                a: p(v[0], v[1]),
+                b: p(v[2], v[3]),
+                mid: p(v[4], v[5]),
+                span: 0,
+                reversed: false,
+            })
+        };
+        let arc = |v: [f64; 8]| {
+            Segment::Arc(Arc {
+                center: p(v[0], v[1]),
+                start: p(v[2], v[3]),
+                end: p(v[4], v[5]),
+                radius: v[6],
+                sweep: v[7],
+            })
+        };
+        let base = [1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 0.5];
+        let (mut finite, mut not) = (0, 0);
+        let makers: [&dyn Fn([f64; 8]) -> Segment; 3] = [&line, &curve, &arc];
+        for make in makers {
+            assert!(make(base).is_finite());
+            // Every pair of values in every two neighbouring numbers (infinities of both
+            // signs together, two huge values whose sum overflows), and every number huge.
+            let mut cases = vec![[f64::MAX; 8]];
+            for field in 0..8 {
+                for &v in &specials {
+                    for &w in &specials {
+                        let mut vs = base;
+                        vs[field] = v;
+                        vs[(field + 1) % 8] = w;
+                        cases.push(vs);
+                    }
+                }
+            }
+            for vs in cases {
+                let s = make(vs);
+                assert_eq!(s.is_finite(), plain(&s), "{s:?}");
+                if plain(&s) {
+                    finite += 1;
+                } else {
+                    not += 1;
+                }
+            }
+        }
+        assert!(finite > 50 && not > 50, "{finite} finite, {not} not");
+    }
 
     /// `grow` and `grow_point` give what `union` and `add_point` give, bit for bit, for boxes
     /// grown from the empty box, also when the box or point added holds NaN, infinities or
